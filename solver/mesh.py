@@ -38,6 +38,28 @@ class Mesh:
         self.edges = {k: np.ascontiguousarray(v, dtype=np.int64).reshape(-1, 3)
                       for k, v in self.edges.items()}
         self.check()
+        self._orient_edges()
+
+    def _orient_edges(self) -> None:
+        """Turn each edge segment so the triangle it borders lies on its left.
+
+        Then (t_y, -t_x) of the tangent t is the outward normal on the boundary. On an interior
+        line the first bordering triangle found decides.
+        """
+        if not self.edges:
+            return
+        n = self.n_nodes
+        t = self.triangles
+        # Directed corner edges of every (counter-clockwise) triangle: i -> j has it on the left.
+        a = t[:, [0, 1, 2]].ravel()
+        b = t[:, [1, 2, 0]].ravel()
+        directed = np.sort(a * n + b)
+        for name, seg in self.edges.items():
+            if not seg.size:
+                continue
+            forward = np.isin(seg[:, 0] * n + seg[:, 1], directed, assume_unique=False)
+            flip = ~forward
+            seg[flip] = seg[flip][:, [1, 0, 2]]
 
     # ---------------------------------------------------------------- checks
     def check(self) -> None:

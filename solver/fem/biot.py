@@ -1,0 +1,341 @@
+"""The coupled Biot system: blocks, boundary conditions, rigid-plate ties and one time step.
+
+Unknowns: displacement u (P2, tension-positive mechanics) and EXCESS pore pressure p (P1,
+positive in compression). Balance of momentum and of fluid mass (Biot 1941), backward Euler:
+
+    [ K     -Q          ] [u]       [ f(t+dt)                  ]
+    [ -Q^T  -(S M + dt H)] [p]    =  [ -Q^T u_n - S M p_n       ]
+
+with K = int B^T D B, Q = int alpha B^T m N_p, M = int N_p^T N_p, H = int grad N_p^T (k/gamma_w)
+grad N_p. The matrix is symmetric quasi-definite for dt > 0; dt = 0 gives the undrained response
+at the instant a load is applied (Q^T du + S M dp = 0).
+
+Constraints enter through one map T from reduced to full unknowns, x = T y + x_D: fixed values
+leave the system, and every node of a rigid plate shares one vertical displacement (one column
+of T), on which the plate's total force acts. A_red = T^T A T.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Callable, Iterator
+
+import numpy as np
+import scipy.sparse as sp
+
+from ..errors import InputError
+from ..materials.elastic import GAMMA_W, ElasticMaterial
+from ..mesh import Mesh
+from .assembly import PLANE_STRAIN, Discretisation
+
+History = Callable[[float], float]
+
+
+def constant(t: float) -> float:
+    """Load history: applied in full at t = 0 and held."""
+    return 1.0 if t >= 0 else 0.0
+
+
+@dataclass
+class Fixity:
+    """Prescribed displacement on a named edge: ``x`` and/or ``y`` in m (None leaves it free)."""
+    edge: str
+    x: float | None = None
+    y: float | None = None
+
+
+@dataclass
+class Traction:
+    """Surface load on a named edge, kPa: ``normal`` pressure pushing into the ground (positive)
+    and/or a ``vertical`` load (positive downward), scaled in time by ``history``."""
+    edge: str
+    normal: float = 0.0
+    vertical: float = 0.0
+    history: History = constant
+    where: Callable[[np.ndarray], np.ndarray] | None = None  # x (..., 2) -> bool mask (loaded part)
+
+
+@dataclass
+class RigidPlate:
+    """All nodes of a named edge share one vertical displacement carrying ``force``.
+
+    ``force`` is compressive (downward) positive: kN per m run in plane strain, kN in total
+    over the full circle in axisymmetry. ``history`` scales it in time.
+    """
+    edge: str
+    force: float = 0.0
+    history: History = constant
+
+
+@dataclass
+class BiotProblem:
+    """A linear Biot consolidation problem on a mesh.
+
+    Parameters
+    ----------
+    mesh : the mesh.
+    materials : region name -> ElasticMaterial (every region needs one).
+    analysis : "plane strain" or "axisymmetric".
+    fixities, tractions, plates : boundary conditions on named edges.
+    drained : names of edges where the excess pore pressure is zero (all other boundaries are
+        impermeable).
+    gamma_w : unit weight of water, kN/m3.
+    """
+
+    mesh: Mesh
+    materials: dict[str, ElasticMaterial]
+    analysis: str = PLANE_STRAIN
+    fixities: list[Fixity] = field(default_factory=list)
+    drained: list[str] = field(default_factory=list)
+    tractions: list[Traction] = field(default_factory=list)
+    plates: list[RigidPlate] = field(default_factory=list)
+    gamma_w: float = GAMMA_W
+
+    def __post_init__(self):
+        self.disc = Discretisation(self.mesh, self.analysis)
+        self._check_names()
+        self._assemble()
+        self._constrain()
+
+    # ----------------------------------------------------------- checks
+    def _check_names(self):
+        names = self.mesh.region_names
+        missing = [r for r in names if r not in self.materials]
+        if missing:
+            raise InputError(f"regions {missing} have no material", field="materials",
+                             source=self.mesh.source,
+                             fix=f"give a material for every region: {names}.")
+        for kind, items in (("fixities", self.fixities), ("tractions", self.tractions),
+                            ("plates", self.plates)):
+            for item in items:
+                self._edge(item.edge, kind)
+        for name in self.drained:
+            self._edge(name, "drained")
+
+    def _edge(self, name: str, kind: str) -> np.ndarray:
+        if name not in self.mesh.edges:
+            raise InputError(f"unknown boundary {name!r}", field=kind, source=self.mesh.source,
+                             fix=f"use one of the mesh's named edges: {sorted(self.mesh.edges)}.")
+        return self.mesh.edges[name]
+
+    # --------------------------------------------------------- assembly
+    def _per_element(self, attr: str) -> np.ndarray:
+        vals = np.array([getattr(self.materials[n], attr) for n in self.mesh.region_names])
+        return vals[self.mesh.region]
+
+    def _assemble(self):
+        d = self.disc
+        ne = self.mesh.n_elements
+        Ds = np.stack([self.materials[n].elasticity_matrix() for n in self.mesh.region_names])
+        Ke = d.stiffness_blocks(Ds[self.mesh.region])
+        Qe = d.coupling_blocks(self._per_element("biot_coefficient"))
+        SMe = d.mass_blocks(self._per_element("storage"))
+        He = d.flow_blocks(self._per_element("permeability_x") / self.gamma_w,
+                           self._per_element("permeability_y") / self.gamma_w)
+        A0 = np.zeros((ne, 15, 15))
+        A0[:, :12, :12] = Ke
+        A0[:, :12, 12:] = -Qe
+        A0[:, 12:, :12] = -Qe.transpose(0, 2, 1)
+        A0[:, 12:, 12:] = -SMe
+        A1 = np.zeros((ne, 15, 15))
+        A1[:, 12:, 12:] = -He
+        self.A0 = d.pattern.assemble(A0)   # the dt-independent part
+        self.A1 = d.pattern.assemble(A1)   # times dt
+        self._A0_p = self.A0[d.n_u:]       # pressure rows: -Q^T u - S M p
+
+    def _constrain(self):
+        self._sets = {}
+        self.x_fixed = self.constraints(1.0).x_fixed
+
+    def constraints(self, dt: float) -> "Constraints":
+        """The constraint set for a step: drained edges act only over a step of positive length.
+
+        At the instant a load is applied (dt = 0) no water has left, anywhere: the excess pore
+        pressure on a drainage boundary jumps to zero only once time runs. Fixing it at the
+        instant would drop the no-volume-change condition of the boundary nodes and let the
+        elements next to the boundary compress.
+        """
+        drainage = dt > 0
+        if drainage not in self._sets:
+            self._sets[drainage] = Constraints.build(self, drainage)
+        return self._sets[drainage]
+
+    # ----------------------------------------------------------- loads
+    def external_force(self, t: float) -> np.ndarray:
+        """Full-size force vector at time t (pressure rows zero) and plate forces (n_plates,)."""
+        d = self.disc
+        f = np.zeros(d.n_dofs)
+        for tr in self.tractions:
+            s = tr.history(t)
+            if s == 0.0:
+                continue
+            seg = self._edge(tr.edge, "tractions")
+
+            def traction(x, nrm, tr=tr, s=s):
+                t_ = -s * tr.normal * nrm
+                t_[..., 1] -= s * tr.vertical
+                if tr.where is not None:
+                    t_ *= tr.where(x)[..., None]
+                return t_
+            f[:d.n_u] += d.edge_traction_vector(seg, traction)
+        per = 1.0 / (2 * np.pi) if d.axisymmetric else 1.0
+        plate = np.array([-pl.force * pl.history(t) * per for pl in self.plates])
+        return f, plate
+
+    # ----------------------------------------------------------- solve
+    def matrix(self, dt: float) -> sp.csr_matrix:
+        """Reduced coupled matrix for a step of length dt (days)."""
+        c = self.constraints(dt)
+        return (c.R0 + dt * c.R1).tocsr() if dt else c.R0
+
+    def right_hand_side(self, x_old: np.ndarray, t_new: float, dt: float) -> np.ndarray:
+        c = self.constraints(dt)
+        f, plate = self.external_force(t_new)
+        f[self.disc.n_u:] = self._A0_p @ x_old
+        if c.has_prescribed:
+            f -= (self.A0 + dt * self.A1) @ c.x_fixed
+        b = c.Tt @ f
+        b[c.plate_dof] += plate
+        return b
+
+    def expand(self, y: np.ndarray, dt: float) -> np.ndarray:
+        c = self.constraints(dt)
+        return c.T @ y + c.x_fixed
+
+    def ordering(self, dt: float):
+        """Fill-reducing ordering of the reduced unknowns, once per constraint set."""
+        c = self.constraints(dt)
+        if c.ordering is None:
+            from ..linalg import Ordering
+            c.ordering = Ordering.from_groups(c.node_of_reduced, self.disc.node_graph)
+        return c.ordering
+
+
+@dataclass
+class Constraints:
+    """x = T y + x_fixed: the map from reduced unknowns y to all unknowns x, and T^T A T."""
+    T: sp.csr_matrix
+    Tt: sp.csr_matrix
+    R0: sp.csr_matrix
+    R1: sp.csr_matrix
+    x_fixed: np.ndarray
+    fixed: np.ndarray
+    plate_dof: np.ndarray
+    node_of_reduced: np.ndarray
+    ordering: object = None
+
+    @property
+    def has_prescribed(self) -> bool:
+        return bool(np.any(self.x_fixed != 0))
+
+    @property
+    def n_reduced(self) -> int:
+        return self.T.shape[1]
+
+    @classmethod
+    def build(cls, pb: "BiotProblem", drainage: bool) -> "Constraints":
+        d = pb.disc
+        n = d.n_dofs
+        fixed = np.zeros(n, dtype=bool)
+        x_fixed = np.zeros(n)
+        for fx in pb.fixities:
+            nodes = np.unique(pb._edge(fx.edge, "fixities"))
+            for comp, val in ((0, fx.x), (1, fx.y)):
+                if val is not None:
+                    fixed[2 * nodes + comp] = True
+                    x_fixed[2 * nodes + comp] = val
+        if drainage:
+            for name in pb.drained:
+                nodes = np.unique(pb._edge(name, "drained"))
+                pdofs = d.n_u + pb.mesh.pressure_index[nodes]
+                fixed[pdofs[pdofs >= d.n_u]] = True
+        master = np.full(n, -1)
+        for i, pl in enumerate(pb.plates):
+            dofs = 2 * np.unique(pb._edge(pl.edge, "plates")) + 1
+            if fixed[dofs].any():
+                raise InputError(f"rigid plate on {pl.edge!r} has vertically fixed nodes",
+                                 field="plates", fix="do not fix the plate edge vertically.")
+            if (master[dofs] >= 0).any():
+                raise InputError(f"rigid plate on {pl.edge!r} overlaps another plate",
+                                 field="plates", fix="give each plate its own edge.")
+            master[dofs] = i
+        free = ~fixed & (master < 0)
+        n_free = int(free.sum())
+        red = np.full(n, -1)
+        red[free] = np.arange(n_free)
+        tied = master >= 0
+        red[tied] = n_free + master[tied]
+        n_red = n_free + len(pb.plates)
+        rows = np.flatnonzero(red >= 0)
+        T = sp.csr_matrix((np.ones(rows.size), (rows, red[rows])), shape=(n, n_red))
+        Tt = T.T.tocsr()
+        # The node each reduced unknown lives on (a plate's unknown: its first node), for
+        # orderings computed on the node graph.
+        node = np.empty(n_red, dtype=np.int64)
+        node[red[rows]] = d.node_of_dof[rows]
+        return cls(T, Tt, (Tt @ pb.A0 @ T).tocsr(), (Tt @ pb.A1 @ T).tocsr(), x_fixed, fixed,
+                   n_free + np.arange(len(pb.plates)), node)
+
+
+@dataclass
+class State:
+    """Solution at one time: ``t`` days, ``x`` all unknowns; views ``u`` (n_u,) and ``p`` (n_p,)."""
+    t: float
+    x: np.ndarray
+    n_u: int
+
+    @property
+    def u(self) -> np.ndarray:
+        return self.x[:self.n_u]
+
+    @property
+    def p(self) -> np.ndarray:
+        return self.x[self.n_u:]
+
+    def displacement(self) -> np.ndarray:
+        """(n_nodes, 2) displacement, m."""
+        return self.u.reshape(-1, 2)
+
+
+class StepSolver:
+    """Steps a BiotProblem through times, factoring once per distinct step length."""
+
+    def __init__(self, problem: BiotProblem, backend: str | None = None):
+        from .. import linalg
+        self.problem = problem
+        self.backend = backend or linalg.default_backend()
+        self._factors: dict[float, object] = {}
+        self.factor_seconds = 0.0
+        self.n_factorizations = 0
+
+    def factor_for(self, dt: float):
+        from .. import linalg
+        # Step lengths equal to 7 digits share a factorization.
+        key = float(np.float32(dt))
+        fac = self._factors.get(key)
+        if fac is None:
+            A = self.problem.matrix(dt)
+            order = self.problem.ordering(dt) if self.backend == "superlu-nd" else None
+            fac = linalg.factor(A, backend=self.backend, ordering=order)
+            self.factor_seconds += fac.factor_seconds
+            self.n_factorizations += 1
+            self._factors[key] = fac
+        return fac
+
+    def step(self, state: State, t_new: float) -> State:
+        dt = t_new - state.t
+        if dt < 0:
+            raise ValueError("time must not decrease")
+        pb = self.problem
+        b = pb.right_hand_side(state.x, t_new, dt)
+        y = self.factor_for(dt).solve(b)
+        return State(t_new, pb.expand(y, dt), pb.disc.n_u)
+
+    def run(self, times) -> Iterator[State]:
+        """Yield the state at each time. The first step starts from rest just before times[0];
+        a load present at times[0] is felt undrained (a step of zero length)."""
+        pb = self.problem
+        state = State(float(times[0]), np.zeros(pb.disc.n_dofs), pb.disc.n_u)
+        for t in times:
+            state = self.step(state, float(t))
+            yield state
