@@ -188,7 +188,7 @@ def layered_rectangle(width: float, layers: Sequence[tuple[str, float]], size,
 
 
 def column(height: float, n_elements: int = 20, width: float | None = None,
-           layers: Sequence[tuple[str, float]] | None = None) -> Mesh:
+           layers: Sequence[tuple[str, float]] | None = None, x0: float = 0.0) -> Mesh:
     """A one-dimensional soil column of structured triangles, top at y = 0.
 
     ``n_elements`` rows over the height (2 triangles each). Edges top, bottom, left, right.
@@ -198,7 +198,7 @@ def column(height: float, n_elements: int = 20, width: float | None = None,
     if width is None:
         width = total / n_elements
     nys = [max(1, int(round(n_elements * t / total))) for _, t in layers]
-    return layered_rectangle(width, layers, size=width, transfinite=(1, nys))
+    return layered_rectangle(width, layers, size=width, x0=x0, transfinite=(1, nys))
 
 
 def strip_load_section(half_width: float, depth: float, load_half_width: float,

@@ -63,6 +63,84 @@ class SparsityPattern:
         return sp.csr_matrix((data, self.indices, self.indptr), shape=self.shape)
 
 
+class NodalPattern:
+    """CSR pattern of the P2/P1 matrix, derived from the node graph instead of sorting entries.
+
+    Every node carries two displacement unknowns; with ``pressure`` every corner node also
+    carries one pressure unknown, numbered after all displacement unknowns. Two unknowns
+    couple when their nodes share a triangle, so each matrix row is a copy of its node's row
+    in the node graph, expanded to the unknowns of the neighbours: displacement columns
+    (2j, 2j+1 for neighbours j in order), then the pressure columns of corner neighbours.
+    Sorting happens once on the 36 node pairs of each element, not the 225 unknown pairs.
+
+    ``slot`` (ne, nl, nl) maps each element-matrix entry to its place in the CSR data, so
+    ``assemble`` is one ``bincount``.
+    """
+
+    def __init__(self, triangles: np.ndarray, n_nodes: int, pressure_index: np.ndarray | None):
+        ne, nn = len(triangles), n_nodes
+        t = triangles
+        # Node graph, and the CSR position of each element's 36 node pairs in it.
+        ii = np.repeat(t, 6, axis=1).ravel()
+        jj = np.tile(t, (1, 6)).ravel()
+        G = sp.coo_matrix((np.ones(ii.size), (ii, jj)), shape=(nn, nn)).tocsr()
+        G.sort_indices()
+        gp = G.indptr.astype(np.int64)
+        gj = G.indices.astype(np.int64)
+        G.data = np.arange(G.nnz, dtype=float)
+        s6 = np.asarray(G[ii, jj]).ravel().astype(np.int64).reshape(ne, 6, 6)
+        G.data[:] = 1.0
+        self.node_graph = G
+        deg = np.diff(gp)
+        row_of = np.repeat(np.arange(nn), deg)             # node row of each node-graph entry
+        k = np.arange(G.nnz) - gp[row_of]                   # position within the node row
+        n_u = 2 * nn
+        if pressure_index is None:
+            is_c = np.zeros(nn, dtype=bool)
+        else:
+            is_c = pressure_index >= 0
+        n_p = int(is_c.sum())
+        cflag = is_c[gj].astype(np.int64)
+        ccum = np.concatenate([[0], np.cumsum(cflag)])
+        kc = ccum[:-1] - ccum[gp[row_of]]                   # position among corner neighbours
+        cdeg = ccum[gp[1:]] - ccum[gp[:-1]]
+        # Row of an unknown on node i: u columns of its neighbours (2 each), then the p columns
+        # of its corner neighbours; rows ordered u (node order), then p (corner order).
+        L = 2 * deg + cdeg
+        lens = np.concatenate([np.repeat(L, 2), L[is_c]])
+        self.indptr = np.concatenate([[0], np.cumsum(lens)]).astype(np.int64)
+        n = n_u + n_p
+        self.shape = (n, n)
+        self.nnz = int(self.indptr[-1])
+        start = self.indptr[:-1]
+        c2 = np.array([0, 1])
+        R = start[2 * t[:, :, None] + c2]                    # (ne, 6, 2) u row starts
+        KB = 2 * k[s6]                                       # (ne, 6, 6) u column offsets
+        uu = R[:, :, :, None, None] + KB[:, :, None, :, None] + c2
+        ucol = (2 * t[:, :, None] + c2).reshape(ne, 12)        # (ne, 12) global u unknowns
+        if n_p:
+            pdof = n_u + pressure_index[t[:, :3]]               # (ne, 3)
+            PC = 2 * deg[t][:, :, None] + kc[s6[:, :, :3]]     # (ne, 6, 3) p column offsets
+            RP = start[pdof]                                    # (ne, 3) p row starts
+            slot = np.empty((ne, 15, 15), dtype=np.int64)
+            slot[:, :12, :12] = uu.reshape(ne, 12, 12)
+            slot[:, :12, 12:] = (R[:, :, :, None] + PC[:, :, None, :]).reshape(ne, 12, 3)
+            slot[:, 12:, :12] = (RP[:, :, None, None] + KB[:, :3, :, None] + c2).reshape(ne, 3, 12)
+            slot[:, 12:, 12:] = RP[:, :, None] + PC[:, :3, :]
+            cols = np.concatenate([ucol, pdof], axis=1)
+        else:
+            slot = uu.reshape(ne, 12, 12)
+            cols = ucol
+        self.slot = slot.ravel()
+        self.indices = np.empty(self.nnz, dtype=np.int32)
+        self.indices[self.slot] = np.broadcast_to(cols[:, None, :], slot.shape).ravel()
+
+    def assemble(self, values: np.ndarray) -> sp.csr_matrix:
+        """Sum element blocks (ne, nl, nl) into a CSR matrix with this pattern."""
+        data = np.bincount(self.slot, weights=values.ravel(), minlength=self.nnz)
+        return sp.csr_matrix((data, self.indices, self.indptr), shape=self.shape)
+
+
 @dataclass
 class Discretisation:
     """P2 displacement / P1 pressure fields on a mesh, with quadrature-point geometry."""
@@ -137,14 +215,14 @@ class Discretisation:
         return np.concatenate([self.u_dofs, self.p_dofs], axis=1)
 
     @cached_property
-    def pattern(self) -> SparsityPattern:
+    def pattern(self) -> NodalPattern:
         """Pattern of the coupled matrix (both fields), built once."""
-        return SparsityPattern(self.dofs, self.dofs, (self.n_dofs, self.n_dofs))
+        return NodalPattern(self.mesh.triangles, self.mesh.n_nodes, self.mesh.pressure_index)
 
     @cached_property
-    def u_pattern(self) -> SparsityPattern:
+    def u_pattern(self) -> NodalPattern:
         """Pattern of the displacement-only stiffness."""
-        return SparsityPattern(self.u_dofs, self.u_dofs, (self.n_u, self.n_u))
+        return NodalPattern(self.mesh.triangles, self.mesh.n_nodes, None)
 
     @cached_property
     def node_of_dof(self) -> np.ndarray:
@@ -152,12 +230,10 @@ class Discretisation:
         return np.concatenate([np.repeat(np.arange(self.mesh.n_nodes), 2),
                                self.mesh.corner_nodes])
 
-    @cached_property
+    @property
     def node_graph(self) -> sp.csr_matrix:
         """Node-node adjacency of the mesh (nodes sharing a triangle)."""
-        t = self.mesh.triangles
-        return SparsityPattern(t, t, (self.mesh.n_nodes,) * 2).assemble(
-            np.ones((len(t), 6, 6)))
+        return self.pattern.node_graph
 
     # ------------------------------------------------------ B and friends
     @cached_property
@@ -253,6 +329,44 @@ class Discretisation:
         return float(w.sum())
 
     # ----------------------------------------------------- nodal output
+    @cached_property
+    def _node_B(self) -> np.ndarray:
+        """B evaluated at each element's own 6 nodes, (ne, 6, 4, 12)."""
+        ref = np.array([[0, 0], [1, 0], [0, 1], [0.5, 0], [0.5, 0.5], [0, 0.5]], float)
+        N, dN_ref = element.p2(ref)
+        x = self.mesh.points[self.mesh.triangles]
+        J = np.einsum("eai,qaj->eqij", x, dN_ref)
+        dN = np.einsum("qaj,eqji->eqai", dN_ref, np.linalg.inv(J))
+        ne = len(x)
+        B = np.zeros((ne, 6, 4, 12))
+        B[:, :, 0, 0::2] = dN[..., 0]
+        B[:, :, 1, 1::2] = dN[..., 1]
+        B[:, :, 3, 0::2] = dN[..., 1]
+        B[:, :, 3, 1::2] = dN[..., 0]
+        if self.axisymmetric:
+            r = x[..., 0]                                   # (ne, 6): radius of each node
+            with np.errstate(divide="ignore", invalid="ignore"):
+                hoop = N[None] / r[:, :, None]              # u_r / r at the node
+            # On the axis u_r / r -> d u_r / d r (l'Hopital).
+            on_axis = r <= 1e-12 * max(1.0, float(np.abs(x[..., 0]).max()))
+            hoop[on_axis] = dN[..., 0][on_axis]
+            B[:, :, 2, 0::2] = hoop
+        return B
+
+    def nodal_average(self, element_node_values: np.ndarray) -> np.ndarray:
+        """Average (ne, 6, k) values at element nodes over the elements sharing each node."""
+        t = self.mesh.triangles.ravel()
+        k = element_node_values.shape[-1]
+        vals = element_node_values.reshape(-1, k)
+        count = np.bincount(t, minlength=self.mesh.n_nodes)
+        out = np.stack([np.bincount(t, weights=vals[:, j], minlength=self.mesh.n_nodes)
+                        for j in range(k)], axis=1)
+        return out / count[:, None]
+
+    def strain_at_nodes(self, u: np.ndarray) -> np.ndarray:
+        """Strain (n_nodes, 4) [xx, yy, zz, xy], element values averaged at shared nodes."""
+        return self.nodal_average(np.einsum("enij,ej->eni", self._node_B, u[self.u_dofs]))
+
     def pressure_at_nodes(self, p: np.ndarray) -> np.ndarray:
         """Pressure (n_nodes,) on all P2 nodes: corners as solved, mid-sides linear."""
         t = self.mesh.triangles

@@ -12,7 +12,8 @@ at the instant a load is applied (Q^T du + S M dp = 0).
 
 Constraints enter through one map T from reduced to full unknowns, x = T y + x_D: fixed values
 leave the system, and every node of a rigid plate shares one vertical displacement (one column
-of T), on which the plate's total force acts. A_red = T^T A T.
+of T), on which the plate's total force acts. A_red = T^T A T, formed by selecting CSR entries
+(see :class:`Constraints`), never by sparse products.
 """
 
 from __future__ import annotations
@@ -127,7 +128,8 @@ class BiotProblem:
         d = self.disc
         ne = self.mesh.n_elements
         Ds = np.stack([self.materials[n].elasticity_matrix() for n in self.mesh.region_names])
-        Ke = d.stiffness_blocks(Ds[self.mesh.region])
+        self.D = Ds[self.mesh.region]      # (ne, 4, 4)
+        Ke = d.stiffness_blocks(self.D)
         Qe = d.coupling_blocks(self._per_element("biot_coefficient"))
         SMe = d.mass_blocks(self._per_element("storage"))
         He = d.flow_blocks(self._per_element("permeability_x") / self.gamma_w,
@@ -140,25 +142,33 @@ class BiotProblem:
         A1 = np.zeros((ne, 15, 15))
         A1[:, 12:, 12:] = -He
         self.A0 = d.pattern.assemble(A0)   # the dt-independent part
-        self.A1 = d.pattern.assemble(A1)   # times dt
+        self.A1 = d.pattern.assemble(A1)   # times dt (same pattern)
         self._A0_p = self.A0[d.n_u:]       # pressure rows: -Q^T u - S M p
 
     def _constrain(self):
-        self._sets = {}
-        self.x_fixed = self.constraints(1.0).x_fixed
+        self._sets: dict[str, Constraints] = {}
+        self.constraints(1.0)  # check the boundary conditions now, where the input enters
 
     def constraints(self, dt: float) -> "Constraints":
-        """The constraint set for a step: drained edges act only over a step of positive length.
+        """The constraint set for a step: drained edges act only over a step of positive length
+        (``dt = inf`` asks for the fully drained state, excess pressure zero everywhere).
 
         At the instant a load is applied (dt = 0) no water has left, anywhere: the excess pore
         pressure on a drainage boundary jumps to zero only once time runs. Fixing it at the
         instant would drop the no-volume-change condition of the boundary nodes and let the
         elements next to the boundary compress.
         """
-        drainage = dt > 0
-        if drainage not in self._sets:
-            self._sets[drainage] = Constraints.build(self, drainage)
-        return self._sets[drainage]
+        mode = "drained" if np.isinf(dt) else ("consolidating" if dt > 0 else "undrained")
+        if mode not in self._sets:
+            self._sets[mode] = Constraints.build(self, mode)
+        return self._sets[mode]
+
+    def drained_state(self, t: float = 0.0) -> "State":
+        """The long-term (drained) elastic response to the loads at time t: p = 0, K u = f."""
+        b = self.right_hand_side(np.zeros(self.disc.n_dofs), t, np.inf)
+        from .. import linalg
+        y = linalg.factor(self.matrix(np.inf), backend="superlu").solve(b)
+        return State(t, self.expand(y, np.inf), self.disc.n_u)
 
     # ----------------------------------------------------------- loads
     def external_force(self, t: float) -> np.ndarray:
@@ -182,25 +192,46 @@ class BiotProblem:
         plate = np.array([-pl.force * pl.history(t) * per for pl in self.plates])
         return f, plate
 
+    # ---------------------------------------------------------- output
+    def effective_stress_at_nodes(self, state: "State") -> np.ndarray:
+        """Change of effective stress (n_nodes, 4) [xx, yy, zz, xy], kPa, tension positive."""
+        d = self.disc
+        eps = np.einsum("enij,ej->eni", d._node_B, state.u[d.u_dofs])   # (ne, 6, 4)
+        return d.nodal_average(np.einsum("eij,enj->eni", self.D, eps))
+
+    def total_stress_at_nodes(self, state: "State") -> np.ndarray:
+        """Change of total stress (n_nodes, 4), kPa, tension positive: sigma' - alpha p m."""
+        sig = self.effective_stress_at_nodes(state)
+        alpha = self._per_element("biot_coefficient")
+        a_node = self.disc.nodal_average(np.repeat(alpha[:, None, None], 6, axis=1))[:, 0]
+        p = self.disc.pressure_at_nodes(state.p)
+        sig[:, :3] -= (a_node * p)[:, None]
+        return sig
+
     # ----------------------------------------------------------- solve
+    def full_matrix(self, dt: float) -> sp.csr_matrix:
+        """The unconstrained coupled matrix for a step of length dt."""
+        if not np.isfinite(dt) or dt == 0:
+            return self.A0
+        return sp.csr_matrix((self.A0.data + dt * self.A1.data, self.A0.indices,
+                              self.A0.indptr), shape=self.A0.shape)
+
     def matrix(self, dt: float) -> sp.csr_matrix:
         """Reduced coupled matrix for a step of length dt (days)."""
-        c = self.constraints(dt)
-        return (c.R0 + dt * c.R1).tocsr() if dt else c.R0
+        return self.constraints(dt).reduce(self.full_matrix(dt).data)
 
     def right_hand_side(self, x_old: np.ndarray, t_new: float, dt: float) -> np.ndarray:
         c = self.constraints(dt)
         f, plate = self.external_force(t_new)
         f[self.disc.n_u:] = self._A0_p @ x_old
         if c.has_prescribed:
-            f -= (self.A0 + dt * self.A1) @ c.x_fixed
-        b = c.Tt @ f
+            f -= self.full_matrix(dt) @ c.x_fixed
+        b = c.restrict(f)
         b[c.plate_dof] += plate
         return b
 
     def expand(self, y: np.ndarray, dt: float) -> np.ndarray:
-        c = self.constraints(dt)
-        return c.T @ y + c.x_fixed
+        return self.constraints(dt).expand(y)
 
     def ordering(self, dt: float):
         """Fill-reducing ordering of the reduced unknowns, once per constraint set."""
@@ -213,27 +244,54 @@ class BiotProblem:
 
 @dataclass
 class Constraints:
-    """x = T y + x_fixed: the map from reduced unknowns y to all unknowns x, and T^T A T."""
-    T: sp.csr_matrix
-    Tt: sp.csr_matrix
-    R0: sp.csr_matrix
-    R1: sp.csr_matrix
+    """The map between all unknowns x and the reduced unknowns y of the solved system.
+
+    ``red[i]`` is the reduced index of unknown i, -1 where its value is prescribed
+    (``x_fixed``); the unknowns of a rigid plate share one reduced index, numbered after all
+    others. Reducing the matrix keeps, in order, the entries of the CSR data whose row and
+    column are both plain unknowns (no sorting: ``red`` is increasing on them), and sums the
+    few entries that touch a plate into the plate's row and column.
+    """
+    red: np.ndarray
+    n_reduced: int
     x_fixed: np.ndarray
-    fixed: np.ndarray
     plate_dof: np.ndarray
     node_of_reduced: np.ndarray
+    keep: np.ndarray          # CSR data positions of plain-plain entries
+    keep_indptr: np.ndarray
+    keep_indices: np.ndarray
+    tie: np.ndarray           # CSR data positions of entries touching a plate
+    tie_rows: np.ndarray
+    tie_cols: np.ndarray
     ordering: object = None
 
     @property
     def has_prescribed(self) -> bool:
         return bool(np.any(self.x_fixed != 0))
 
-    @property
-    def n_reduced(self) -> int:
-        return self.T.shape[1]
+    def reduce(self, data: np.ndarray) -> sp.csr_matrix:
+        """Reduced CSR matrix from the full matrix's CSR data (same pattern as A0)."""
+        n = self.n_reduced
+        R = sp.csr_matrix((data[self.keep], self.keep_indices, self.keep_indptr), shape=(n, n))
+        if self.tie.size:
+            R = (R + sp.coo_matrix((data[self.tie], (self.tie_rows, self.tie_cols)),
+                                   shape=(n, n)).tocsr()).tocsr()
+        return R
+
+    def restrict(self, f: np.ndarray) -> np.ndarray:
+        """T^T f: sum full-size forces into the reduced unknowns."""
+        ok = self.red >= 0
+        return np.bincount(self.red[ok], weights=f[ok], minlength=self.n_reduced)
+
+    def expand(self, y: np.ndarray) -> np.ndarray:
+        """T y + x_fixed."""
+        x = self.x_fixed.copy()
+        ok = self.red >= 0
+        x[ok] = y[self.red[ok]]
+        return x
 
     @classmethod
-    def build(cls, pb: "BiotProblem", drainage: bool) -> "Constraints":
+    def build(cls, pb: "BiotProblem", mode: str) -> "Constraints":
         d = pb.disc
         n = d.n_dofs
         fixed = np.zeros(n, dtype=bool)
@@ -244,7 +302,9 @@ class Constraints:
                 if val is not None:
                     fixed[2 * nodes + comp] = True
                     x_fixed[2 * nodes + comp] = val
-        if drainage:
+        if mode == "drained":
+            fixed[d.n_u:] = True
+        elif mode == "consolidating":
             for name in pb.drained:
                 nodes = np.unique(pb._edge(name, "drained"))
                 pdofs = d.n_u + pb.mesh.pressure_index[nodes]
@@ -259,22 +319,30 @@ class Constraints:
                 raise InputError(f"rigid plate on {pl.edge!r} overlaps another plate",
                                  field="plates", fix="give each plate its own edge.")
             master[dofs] = i
-        free = ~fixed & (master < 0)
-        n_free = int(free.sum())
+        plain = ~fixed & (master < 0)
+        n_free = int(plain.sum())
         red = np.full(n, -1)
-        red[free] = np.arange(n_free)
+        red[plain] = np.arange(n_free)
         tied = master >= 0
         red[tied] = n_free + master[tied]
         n_red = n_free + len(pb.plates)
-        rows = np.flatnonzero(red >= 0)
-        T = sp.csr_matrix((np.ones(rows.size), (rows, red[rows])), shape=(n, n_red))
-        Tt = T.T.tocsr()
         # The node each reduced unknown lives on (a plate's unknown: its first node), for
         # orderings computed on the node graph.
         node = np.empty(n_red, dtype=np.int64)
-        node[red[rows]] = d.node_of_dof[rows]
-        return cls(T, Tt, (Tt @ pb.A0 @ T).tocsr(), (Tt @ pb.A1 @ T).tocsr(), x_fixed, fixed,
-                   n_free + np.arange(len(pb.plates)), node)
+        node[red[red >= 0]] = d.node_of_dof[red >= 0]
+        # Classify the CSR entries of the full pattern.
+        A = pb.A0
+        rows = np.repeat(np.arange(n), np.diff(A.indptr))
+        cols = A.indices
+        both_plain = plain[rows] & plain[cols]
+        keep = np.flatnonzero(both_plain)
+        keep_indptr = np.concatenate([[0], np.cumsum(np.bincount(red[rows[keep]],
+                                                                 minlength=n_red))])
+        touch = ~both_plain & (red[rows] >= 0) & (red[cols] >= 0)
+        tie = np.flatnonzero(touch)
+        return cls(red, n_red, x_fixed, n_free + np.arange(len(pb.plates)), node,
+                   keep, keep_indptr, red[cols[keep]].astype(np.int32), tie, red[rows[tie]],
+                   red[cols[tie]])
 
 
 @dataclass

@@ -1,0 +1,812 @@
+"""Sparse direct solves of the Biot matrix: order once per pattern, factor once per matrix.
+
+The matrix of one backward-Euler step of the u-p (Biot) equations is symmetric quasi-definite::
+
+    A = [[ K,   -Q          ],      K: (n_u, n_u) SPD once displacement conditions are applied
+         [-Q^T, -(S M + dt H)]]     S M + dt H: (n_p, n_p) positive semidefinite
+
+At the undrained instant (``dt = 0`` with ``S = 0``) the pressure block is exactly zero and ``A`` is
+a saddle point. Because ``A`` is symmetric, a symmetric fill-reducing permutation ``P A P^T`` can be
+factored with diagonal pivots only, which is what makes the default backend fast.
+
+Backends (``available_backends()``):
+
+``"superlu-nd"``
+    SciPy SuperLU on ``P A P^T`` with ``P`` a METIS nested-dissection ordering (:class:`Ordering`),
+    natural column order, no pivoting, symmetric mode. Guarded: pressure-like dofs whose diagonal
+    is (near) zero are delayed until a coupled dof has been eliminated, and the first solve checks
+    the backward error; if the factors turn out inaccurate this ``Factor`` refactors once with
+    SuperLU's default (COLAMD ordering, partial pivoting) and sets ``fell_back = True``.
+``"superlu"``
+    SciPy SuperLU with its defaults (COLAMD, partial pivoting): robust, several times slower.
+``"pardiso"``
+    Intel MKL PARDISO through the optional ``pypardiso`` package (x86_64 only), symmetric
+    indefinite (``mtype = -2``), analysed and factored once, each solve phase 33 only.
+
+Ordering requirement for the undrained instant: number each node's displacement dofs before its
+pressure dof (block numbering ``[u; p]`` does this). :meth:`Ordering.from_groups` keeps ascending
+dof index within a node, so a pressure dof follows the displacements of its own node.
+
+References
+----------
+Vanderbei, R. J. (1995). Symmetric quasidefinite matrices. SIAM J. Optim. 5(1), 100-113.
+Gill, P. E., Saunders, M. A., Shinnerl, J. R. (1996). On the stability of Cholesky factorization
+for symmetric quasidefinite systems. SIAM J. Matrix Anal. Appl. 17(1), 35-46.
+Higham, N. J. (2002). Accuracy and Stability of Numerical Algorithms, 2nd ed., SIAM, Thm 7.1
+(normwise backward error of Rigal and Gaches).
+Karypis, G., Kumar, V. (1998). A fast and high quality multilevel scheme for partitioning
+irregular graphs. SIAM J. Sci. Comput. 20(1), 359-392 (METIS nested dissection).
+"""
+
+from __future__ import annotations
+
+import ctypes
+import functools
+import time
+import warnings
+import weakref
+from dataclasses import dataclass
+
+import numpy as np
+import scipy.sparse as sp
+import scipy.sparse.linalg as spla
+
+from solver.errors import InputError, SolverError
+
+__all__ = [
+    "BACKWARD_ERROR_TOL",
+    "Factor",
+    "Ordering",
+    "SyntheticBiot",
+    "available_backends",
+    "default_backend",
+    "factor",
+    "measure_backends",
+    "synthetic_biot_matrix",
+]
+
+#: Largest accepted normwise backward error ``||b - A x||_inf / (||A||_inf ||x||_inf + ||b||_inf)``
+#: of a solve. A backward-stable factorization gives a few units of machine epsilon times a
+#: modest growth factor (about 1e-16 .. 1e-14 on the Biot matrices measured); a factorization
+#: spoiled by a tiny pivot gives growth of 1e6 or more. 1e-10 sits four orders above the stable
+#: level and, unlike ``||r|| / ||b||``, does not fire merely because ``A`` is ill-conditioned
+#: (the forward error is still bounded by cond(A) times this number).
+BACKWARD_ERROR_TOL = 1e-10
+
+# A dof whose |diagonal| is below this fraction of its row's largest |entry| is "pressure-like"
+# (e.g. the zero pressure block at the undrained instant, or dt*H tiny next to Q); an off-diagonal
+# coupling above this fraction counts as a usable one for the guard in `_delay_weak_pivots`.
+_WEAK_FRACTION = 1e-3
+
+_SUPERLU_NO_PIVOT = dict(permc_spec="NATURAL", diag_pivot_thresh=0.0,
+                         options=dict(SymmetricMode=True))
+
+
+# ----------------------------------------------------------------------------------------------
+# Ordering
+# ----------------------------------------------------------------------------------------------
+
+class Ordering:
+    """A fill-reducing symmetric permutation, computed once per sparsity pattern.
+
+    Parameters
+    ----------
+    perm : (n,) int array, new position -> old dof: the permuted matrix is ``A[perm][:, perm]``.
+    kind : how it was made (``"groups"``, ``"matrix"`` or ``"given"``).
+    seconds : wall time spent computing it.
+    """
+
+    def __init__(self, perm: np.ndarray, kind: str = "given", seconds: float = 0.0):
+        perm = np.asarray(perm, dtype=np.int64)
+        if perm.ndim != 1 or not _is_permutation(perm):
+            raise InputError("ordering.perm is not a permutation of 0..n-1.", field="ordering.perm")
+        self.perm = perm
+        self.kind = kind
+        self.seconds = float(seconds)
+
+    @property
+    def n(self) -> int:
+        """Number of dofs."""
+        return self.perm.size
+
+    @functools.cached_property
+    def iperm(self) -> np.ndarray:
+        """(n,) old dof -> new position."""
+        iperm = np.empty_like(self.perm)
+        iperm[self.perm] = np.arange(self.perm.size)
+        return iperm
+
+    def __repr__(self) -> str:
+        return f"Ordering(n={self.n}, kind={self.kind!r}, seconds={self.seconds:.3f})"
+
+    @classmethod
+    def from_groups(cls, group_of_dof: np.ndarray,
+                    group_adjacency: sp.spmatrix | sp.sparray) -> "Ordering":
+        """Nested dissection on the node graph, expanded to dofs.
+
+        Parameters
+        ----------
+        group_of_dof : (n,) int, the node (group) of each dof.
+        group_adjacency : (n_nodes, n_nodes) sparse, nonzero where two nodes share an element
+            (values ignored; the pattern is symmetrised, the diagonal ignored).
+
+        Returns
+        -------
+        Ordering whose ``perm`` lists nodes in nested-dissection order and, within a node, its
+        dofs in ascending dof index. Nodes without dofs are dropped from the graph; each node is
+        weighted by its number of dofs so separators balance dofs, not nodes.
+
+        Notes
+        -----
+        For the undrained instant number each node's displacement dofs before its pressure dof
+        (block numbering ``[u; p]`` does), so a pressure dof is eliminated after its own node's
+        displacements. The node graph is several times smaller than the dof graph, so this is
+        several times cheaper than :meth:`from_matrix` and orders about as well.
+        """
+        t0 = time.perf_counter()
+        group_of_dof = np.asarray(group_of_dof)
+        if group_of_dof.ndim != 1 or not np.issubdtype(group_of_dof.dtype, np.integer):
+            raise InputError("group_of_dof must be a 1-D integer array (node id of each dof), "
+                             f"got shape {group_of_dof.shape} dtype {group_of_dof.dtype}.",
+                             field="group_of_dof")
+        if not sp.issparse(group_adjacency) or group_adjacency.shape[0] != group_adjacency.shape[1]:
+            raise InputError("group_adjacency must be a square sparse matrix (node-node graph).",
+                             field="group_adjacency")
+        n_groups = group_adjacency.shape[0]
+        if group_of_dof.size and (group_of_dof.min() < 0 or group_of_dof.max() >= n_groups):
+            raise InputError(f"group_of_dof holds node ids in [{group_of_dof.min()}, "
+                             f"{group_of_dof.max()}] but group_adjacency has {n_groups} nodes.",
+                             field="group_of_dof")
+        counts = np.bincount(group_of_dof, minlength=n_groups)
+        active = np.flatnonzero(counts)
+        graph = _symmetric_graph(group_adjacency)
+        if active.size < n_groups:                      # nodes whose dofs were all eliminated
+            graph = graph[active][:, active]
+        node_perm = _nested_dissection(graph, counts[active])    # new -> old (active index)
+        rank = np.empty(n_groups, dtype=np.int64)
+        rank[active[node_perm]] = np.arange(active.size)
+        # Stable sort: within a node, dofs keep ascending dof index (u before p, see Notes).
+        perm = np.argsort(rank[group_of_dof], kind="stable")
+        return cls(perm, kind="groups", seconds=time.perf_counter() - t0)
+
+    @classmethod
+    def from_matrix(cls, A: sp.spmatrix | sp.sparray) -> "Ordering":
+        """Nested dissection on the dof graph of ``A`` (the fallback when no node groups exist).
+
+        Parameters
+        ----------
+        A : (n, n) sparse; only its pattern is used (symmetrised, diagonal ignored).
+        """
+        t0 = time.perf_counter()
+        if not sp.issparse(A) or A.shape[0] != A.shape[1]:
+            raise InputError("A must be a square sparse matrix.", field="A")
+        perm = _nested_dissection(_symmetric_graph(A), None)
+        return cls(perm, kind="matrix", seconds=time.perf_counter() - t0)
+
+
+def _is_permutation(perm: np.ndarray) -> bool:
+    seen = np.zeros(perm.size, dtype=bool)
+    if perm.size and (perm.min() < 0 or perm.max() >= perm.size):
+        return False
+    seen[perm] = True
+    return bool(seen.all())
+
+
+def _symmetric_graph(pattern) -> sp.csr_matrix:
+    """Pattern of ``P + P^T`` without the diagonal, as CSR with int64 indices (what METIS wants)."""
+    coo = sp.coo_matrix(pattern)
+    off = coo.row != coo.col                            # values ignored: explicit zeros count
+    r, c = coo.row[off], coo.col[off]
+    n = pattern.shape[0]
+    # duplicates are summed into the int8 data; only the pattern is read, so overflow is harmless
+    return sp.csr_matrix((np.ones(2 * r.size, dtype=np.int8),
+                          (np.concatenate([r, c]), np.concatenate([c, r]))), shape=(n, n))
+
+
+def _nested_dissection(graph: sp.csr_matrix, vweights: np.ndarray | None) -> np.ndarray:
+    """METIS_NodeND through pymetis; returns perm (new position -> old vertex)."""
+    import pymetis
+
+    n = graph.shape[0]
+    if n == 0:
+        return np.zeros(0, dtype=np.int64)
+    xadj = graph.indptr.astype(np.int64)
+    adjncy = graph.indices.astype(np.int64)
+    kwargs = {}
+    if vweights is not None and np.any(vweights != 1):
+        kwargs["vweights"] = np.ascontiguousarray(vweights, dtype=np.int64)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", DeprecationWarning)
+        if hasattr(pymetis, "CSRAdjacency"):
+            graph_arg = dict(adjacency=pymetis.CSRAdjacency(xadj, adjncy))
+        else:                                           # pymetis < 2025.2
+            graph_arg = dict(xadj=xadj, adjncy=adjncy)
+        try:
+            perm, _iperm = pymetis.nested_dissection(**graph_arg, **kwargs)
+        except TypeError:                               # pymetis without vweights
+            perm, _iperm = pymetis.nested_dissection(**graph_arg)
+    # METIS: row i of the permuted matrix is row perm[i] of the original.
+    return np.asarray(perm, dtype=np.int64)
+
+
+# ----------------------------------------------------------------------------------------------
+# Backends
+# ----------------------------------------------------------------------------------------------
+
+@functools.lru_cache(maxsize=1)
+def _pardiso_entry():
+    """The MKL ``pardiso`` C function from pypardiso's loaded ``mkl_rt``, or None if unavailable."""
+    try:
+        import pypardiso
+        solver = pypardiso.PyPardisoSolver()        # finds and loads mkl_rt, sets argtypes
+    except Exception:                               # ImportError, OSError: no MKL for this arch
+        return None
+    return solver._mkl_pardiso
+
+
+def available_backends() -> list[str]:
+    """Names accepted by :func:`factor` on this machine, fastest first."""
+    names = ["superlu-nd", "superlu"]
+    if _pardiso_entry() is not None:
+        names.insert(0, "pardiso")
+    return names
+
+
+def default_backend() -> str:
+    """The fastest installed backend by measurement: ``"pardiso"`` if importable, else
+    ``"superlu-nd"`` (see DEVELOPERS.md / :func:`measure_backends` for the numbers)."""
+    return "pardiso" if _pardiso_entry() is not None else "superlu-nd"
+
+
+class Factor:
+    """A factorization of ``A`` kept for many solves. Make one with :func:`factor`.
+
+    Attributes
+    ----------
+    backend : the backend asked for.
+    factor_seconds : wall time of ordering (if computed here) and factorization, including a
+        fallback refactorization.
+    fell_back : True if the no-pivot factorization was inaccurate or hit an exactly zero pivot,
+        and this Factor refactored with SuperLU's pivoting default instead.
+    backward_error : normwise backward error of the checked solve (None before the first solve).
+    factor_nnz : nonzeros in the factors (a memory measure), if the backend tells.
+    check_every_solve : check the backward error of every solve (one matvec each, about 5% of a
+        solve) rather than only the first.
+    """
+
+    backend: str
+    factor_seconds: float
+    fell_back: bool
+    backward_error: float | None
+    factor_nnz: int | None
+
+    def __init__(self, A: sp.csr_matrix, backend: str):
+        self.A = A
+        self.n = A.shape[0]
+        self.backend = backend
+        self.factor_seconds = 0.0
+        self.fell_back = False
+        self.backward_error = None
+        self.factor_nnz = None
+        self.check_every_solve = False
+        self._checked = False
+        self._a_norm = None
+
+    def solve(self, b: np.ndarray) -> np.ndarray:
+        """Solve ``A x = b``.
+
+        Parameters
+        ----------
+        b : (n,) or (n, k) right-hand side(s).
+
+        Returns
+        -------
+        x : same shape as ``b``.
+        """
+        b = np.asarray(b, dtype=np.float64)
+        if b.ndim not in (1, 2) or b.shape[0] != self.n:
+            raise InputError(f"right-hand side has shape {b.shape}; the matrix has {self.n} rows.",
+                             field="b")
+        x = self._solve(b)
+        if not self._checked or self.check_every_solve:
+            self._checked = True
+            eta = self._backward_error(b, x)
+            self.backward_error = eta
+            if not eta <= BACKWARD_ERROR_TOL:           # also catches NaN
+                x = self._recover(b, eta)
+        return x
+
+    def _backward_error(self, b: np.ndarray, x: np.ndarray) -> float:
+        """Normwise backward error (Higham 2002, Thm 7.1, inf-norm), worst column."""
+        if self._a_norm is None:
+            self._a_norm = float(abs(self.A).sum(axis=1).max()) if self.A.nnz else 0.0
+        r = b - self.A @ x
+        r_n = np.abs(r).max(axis=0)
+        den = self._a_norm * np.abs(x).max(axis=0) + np.abs(b).max(axis=0)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            eta = np.where(den > 0, r_n / np.where(den > 0, den, 1.0), 0.0)
+        eta = np.where(np.isfinite(x).all(axis=0), eta, np.inf)
+        return float(np.max(eta))
+
+    def _recover(self, b: np.ndarray, eta: float) -> np.ndarray:
+        """Refactor with pivoting once; if that is inaccurate too, the matrix is singular."""
+        if self.fell_back or not self._can_fall_back():
+            raise SolverError(
+                f"The {self.backend} solve is inaccurate (backward error {eta:.1e} > "
+                f"{BACKWARD_ERROR_TOL:.0e}): the matrix is singular or nearly so. Check that the "
+                "displacement boundary conditions stop every rigid-body motion and that no "
+                "pressure dof is left without coupling.")
+        t0 = time.perf_counter()
+        self._fall_back()
+        self.factor_seconds += time.perf_counter() - t0
+        self.fell_back = True
+        x = self._solve(b)
+        eta = self._backward_error(b, x)
+        self.backward_error = eta
+        if not eta <= BACKWARD_ERROR_TOL:
+            return self._recover(b, eta)                # raises SolverError
+        return x
+
+    def _can_fall_back(self) -> bool:
+        return True
+
+    def _fall_back(self) -> None:
+        self.free()
+        self._lu = _splu_default(self.A)
+        self.factor_nnz = self._lu.L.nnz + self._lu.U.nnz
+        self._solve = self._solve_superlu_default
+
+    def _solve_superlu_default(self, b: np.ndarray) -> np.ndarray:
+        return self._lu.solve(b)
+
+    def _solve(self, b: np.ndarray) -> np.ndarray:      # replaced by each backend
+        raise NotImplementedError
+
+    def free(self) -> None:
+        """Release the factors' memory now rather than at garbage collection."""
+
+    def __repr__(self) -> str:
+        return (f"Factor(backend={self.backend!r}, n={self.n}, factor_seconds="
+                f"{self.factor_seconds:.3f}, fell_back={self.fell_back})")
+
+
+def _splu_default(A: sp.csr_matrix):
+    try:
+        return spla.splu(A.tocsc())
+    except RuntimeError as exc:                         # "Factor is exactly singular"
+        raise SolverError(
+            f"The matrix is singular ({exc}). Check that the displacement boundary conditions "
+            "stop every rigid-body motion and that every pressure dof is coupled.") from exc
+
+
+class _SuperLUFactor(Factor):
+    """SuperLU defaults: COLAMD column ordering, partial pivoting."""
+
+    def __init__(self, A: sp.csr_matrix):
+        super().__init__(A, "superlu")
+        t0 = time.perf_counter()
+        self._lu = _splu_default(A)
+        self.factor_seconds = time.perf_counter() - t0
+        self.factor_nnz = self._lu.L.nnz + self._lu.U.nnz
+        self._solve = self._solve_superlu_default
+
+    def _can_fall_back(self) -> bool:
+        return False
+
+
+class _SuperLUNDFactor(Factor):
+    """SuperLU on P A P^T, nested dissection, natural columns, diagonal pivots only."""
+
+    def __init__(self, A: sp.csr_matrix, ordering: Ordering | None):
+        super().__init__(A, "superlu-nd")
+        t0 = time.perf_counter()
+        if ordering is None:
+            ordering = Ordering.from_matrix(A)
+        perm = _delay_weak_pivots(A, ordering.perm)
+        iperm = np.empty_like(perm)
+        iperm[perm] = np.arange(perm.size)
+        self._perm, self._iperm = perm, iperm
+        try:
+            self._lu = spla.splu(_permuted_symmetric_csc(A, perm, iperm), **_SUPERLU_NO_PIVOT)
+            self.factor_nnz = self._lu.L.nnz + self._lu.U.nnz
+        except RuntimeError:                # exactly zero pivot column: pivot after all
+            self._fall_back()
+            self.fell_back = True
+        self.factor_seconds = time.perf_counter() - t0
+
+    def _solve(self, b: np.ndarray) -> np.ndarray:
+        return self._lu.solve(b[self._perm])[self._iperm]
+
+
+def _permuted_symmetric_csc(A: sp.csr_matrix, perm: np.ndarray, iperm: np.ndarray) -> sp.csc_matrix:
+    """``P A P^T`` in CSC for symmetric ``A`` with one gather: the rows of ``A[perm]`` are the
+    columns of ``(P A P^T)^T = P A P^T``, with their indices renumbered by ``iperm``."""
+    rows = A[perm]                                      # CSR row gather, O(nnz)
+    B = sp.csc_matrix((rows.data, iperm[rows.indices].astype(rows.indices.dtype), rows.indptr),
+                      shape=A.shape)
+    B.has_sorted_indices = False
+    B.sort_indices()
+    return B
+
+
+def _delay_weak_pivots(A: sp.csr_matrix, perm: np.ndarray) -> np.ndarray:
+    """Move each dof with a (near) zero diagonal to just after its earliest strongly coupled
+    neighbour, if no such neighbour precedes it already.
+
+    Why: with diagonal pivots only, a dof eliminated before every dof it couples to meets its own
+    diagonal as pivot; at the undrained instant that is exactly zero (or rounding noise: on a
+    centrally symmetric patch the coupling of a node's pressure to its own displacements vanishes
+    analytically). After one coupled displacement dof j is eliminated the pivot becomes
+    ``-Q_ij^2 / d_j``, which is negative and bounded away from zero (Vanderbei 1995).
+    """
+    diag = np.abs(A.diagonal())
+    rowmax = np.abs(A).max(axis=1).toarray().ravel() if A.nnz else np.zeros(A.shape[0])
+    weak = np.flatnonzero(diag <= _WEAK_FRACTION * rowmax)
+    if weak.size == 0:
+        return perm
+    pos = np.empty_like(perm)
+    pos[perm] = np.arange(perm.size)
+    sub = A[weak].tocoo()                               # rows of the weak dofs only
+    rows = weak[sub.row]
+    strong = (sub.col != rows) & (np.abs(sub.data) > _WEAK_FRACTION * rowmax[rows])
+    first = np.full(weak.size, np.iinfo(np.int64).max)
+    np.minimum.at(first, sub.row[strong], pos[sub.col[strong]])
+    late = first < np.iinfo(np.int64).max
+    late &= first > pos[weak]                           # no strong neighbour precedes it
+    if not late.any():
+        return perm
+    key = 2 * pos                                       # even keys: everyone where they are
+    key[weak[late]] = 2 * first[late] + 1               # odd: right after that neighbour
+    return perm[np.argsort(key[perm], kind="stable")]
+
+
+class _PardisoFactor(Factor):
+    """MKL PARDISO, real symmetric indefinite: phase 11 + 22 once, phase 33 per solve."""
+
+    _MTYPE = -2
+
+    def __init__(self, A: sp.csr_matrix, ordering: Ordering | None):
+        super().__init__(A, "pardiso")
+        entry = _pardiso_entry()
+        t0 = time.perf_counter()
+        U = _upper_with_diagonal(A)
+        if U.nnz >= 2 ** 31:
+            raise InputError(f"the upper triangle has {U.nnz} nonzeros, more than the 32-bit "
+                             "PARDISO interface takes.", field="A",
+                             fix="use backend='superlu-nd'.")
+        self._data = np.ascontiguousarray(U.data, dtype=np.float64)
+        self._ia = np.ascontiguousarray(U.indptr, dtype=np.int32)
+        self._ja = np.ascontiguousarray(U.indices, dtype=np.int32)
+        self._pt = np.zeros(64, dtype=np.int64)
+        iparm = np.zeros(64, dtype=np.int32)
+        iparm[0] = 1            # iparm(1): we set the values below, no defaults
+        iparm[1] = 2            # iparm(2): METIS nested dissection
+        iparm[7] = 0            # iparm(8): automatic iterative refinement (2 steps if perturbed)
+        iparm[9] = 8            # iparm(10): perturb pivots smaller than 1e-8 * ||A||
+        iparm[10] = 1           # iparm(11): symmetric scaling  } recommended for saddle points
+        iparm[12] = 1           # iparm(13): weighted matching  } (undrained instant)
+        iparm[17] = -1          # iparm(18): report nonzeros in the factors
+        iparm[20] = 1           # iparm(21): Bunch-Kaufman 1x1 and 2x2 pivots
+        iparm[34] = 1           # iparm(35): zero-based ia/ja (no shifted copies)
+        self._perm = np.zeros(self.n, dtype=np.int32)
+        if ordering is not None:
+            if ordering.n != self.n:
+                raise InputError(f"ordering has {ordering.n} dofs; the matrix has {self.n}.",
+                                 field="ordering")
+            iparm[4] = 1        # iparm(5): use our permutation; PARDISO wants old -> new
+            self._perm[:] = ordering.iperm
+        self._iparm = iparm
+        self._entry = entry
+        # PARDISO keeps its factors outside Python: free them when this object goes.
+        self._finalizer = weakref.finalize(self, _pardiso_release, entry, self._pt, self._iparm,
+                                           self.n)
+        dummy = np.zeros(1)
+        self._call(11, dummy, dummy, 1)
+        self._call(22, dummy, dummy, 1)
+        self.factor_seconds = time.perf_counter() - t0
+        self.factor_nnz = int(iparm[17])
+        self.perturbed_pivots = int(iparm[13])
+        self.inertia = (int(iparm[21]), int(iparm[22]))   # (positive, negative) eigenvalues
+
+    def _call(self, phase: int, b: np.ndarray, x: np.ndarray, nrhs: int) -> None:
+        err = _pardiso_call(self._entry, self._pt, phase, self.n, self._data, self._ia, self._ja,
+                            self._perm, nrhs, self._iparm, b, x)
+        if err != 0:
+            if phase == 22 and err == -4:
+                raise SolverError("PARDISO found a zero pivot (error -4): the matrix is singular. "
+                                  "Check the displacement boundary conditions.")
+            raise SolverError(f"PARDISO phase {phase} failed with error {err} "
+                              "(-2: not enough memory, -4: zero pivot, -3: bad input).")
+
+    def _solve(self, b: np.ndarray) -> np.ndarray:
+        nrhs = 1 if b.ndim == 1 else b.shape[1]
+        bf = np.asfortranarray(b)                       # PARDISO takes column-major (n, k)
+        x = np.zeros_like(bf, order="F")
+        self._call(33, bf, x, nrhs)
+        return np.ascontiguousarray(x)
+
+    def free(self) -> None:
+        if self._finalizer.alive:
+            self._finalizer()
+
+
+def _upper_with_diagonal(A: sp.csr_matrix) -> sp.csr_matrix:
+    """Upper triangle of ``A`` with every diagonal entry stored (PARDISO needs them, even zero)."""
+    coo = A.tocoo()
+    up = coo.row <= coo.col
+    n = A.shape[0]
+    d = np.arange(n)
+    U = sp.csr_matrix((np.concatenate([coo.data[up], np.zeros(n)]),
+                       (np.concatenate([coo.row[up], d]), np.concatenate([coo.col[up], d]))),
+                      shape=A.shape)                    # duplicates summed; zeros kept
+    U.sort_indices()
+    return U
+
+
+def _pardiso_call(entry, pt, phase, n, data, ia, ja, perm, nrhs, iparm, b, x) -> int:
+    i32 = ctypes.c_int32
+    p_i32 = ctypes.POINTER(i32)
+    p_f64 = ctypes.POINTER(ctypes.c_double)
+    err = i32(0)
+    entry(pt.ctypes.data_as(ctypes.POINTER(ctypes.c_int64)),
+          ctypes.byref(i32(1)), ctypes.byref(i32(1)),           # maxfct, mnum
+          ctypes.byref(i32(_PardisoFactor._MTYPE)), ctypes.byref(i32(phase)),
+          ctypes.byref(i32(n)), data.ctypes.data_as(p_f64),
+          ia.ctypes.data_as(p_i32), ja.ctypes.data_as(p_i32), perm.ctypes.data_as(p_i32),
+          ctypes.byref(i32(nrhs)), iparm.ctypes.data_as(p_i32), ctypes.byref(i32(0)),  # msglvl
+          b.ctypes.data_as(p_f64), x.ctypes.data_as(p_f64), ctypes.byref(err))
+    return err.value
+
+
+def _pardiso_release(entry, pt, iparm, n) -> None:
+    empty_i = np.zeros(1, dtype=np.int32)
+    empty_f = np.zeros(1)
+    _pardiso_call(entry, pt, -1, n, empty_f, empty_i, empty_i, empty_i, 1, iparm,
+                  empty_f, empty_f)
+
+
+def factor(A, backend: str | None = None, ordering: Ordering | None = None) -> Factor:
+    """Factor the symmetric (quasi-definite) matrix ``A`` for repeated solves.
+
+    Parameters
+    ----------
+    A : (n, n) scipy sparse matrix, symmetric; converted to CSR float64 if needed.
+    backend : one of :func:`available_backends`; None picks :func:`default_backend`.
+    ordering : an :class:`Ordering` of the same n, computed once per sparsity pattern and reused
+        (used by ``"superlu-nd"`` and ``"pardiso"``); None: ``"superlu-nd"`` computes
+        :meth:`Ordering.from_matrix` here (its time is in ``factor_seconds``), ``"pardiso"``
+        orders internally.
+
+    Returns
+    -------
+    Factor with ``solve(b)``.
+
+    Raises
+    ------
+    InputError : unknown or uninstalled backend, wrong shapes.
+    SolverError : the matrix is singular.
+    """
+    if backend is None:
+        backend = default_backend()
+    names = available_backends()
+    if backend not in names:
+        if backend == "pardiso":
+            raise InputError("backend 'pardiso' is not available: pypardiso (Intel MKL) is not "
+                             f"installed or cannot load. Available: {', '.join(names)}.",
+                             field="backend",
+                             fix="pip install pypardiso (x86_64 only), or use 'superlu-nd'.")
+        raise InputError(f"unknown backend {backend!r}. Available: {', '.join(names)}.",
+                         field="backend", fix=f"use one of {names}.")
+    if not sp.issparse(A) or A.ndim != 2 or A.shape[0] != A.shape[1]:
+        raise InputError(f"A must be a square scipy sparse matrix, got {type(A).__name__} "
+                         f"of shape {getattr(A, 'shape', None)}.", field="A")
+    A = sp.csr_matrix(A, dtype=np.float64)
+    if ordering is not None and ordering.n != A.shape[0]:
+        raise InputError(f"ordering has {ordering.n} dofs; the matrix has {A.shape[0]}.",
+                         field="ordering", fix="compute the Ordering for this sparsity pattern.")
+    if backend == "superlu-nd":
+        return _SuperLUNDFactor(A, ordering)
+    if backend == "superlu":
+        return _SuperLUFactor(A)
+    return _PardisoFactor(A, ordering)
+
+
+# ----------------------------------------------------------------------------------------------
+# Measuring
+# ----------------------------------------------------------------------------------------------
+
+def measure_backends(A, repeats: int = 3, ordering: Ordering | None = None,
+                     backends: list[str] | None = None, seed: int = 0) -> list[dict]:
+    """Time every available backend on ``A`` (best of ``repeats``), for the CLI bench.
+
+    Parameters
+    ----------
+    A : (n, n) sparse symmetric matrix.
+    repeats : factorizations (and solves) per backend; the minimum time is reported.
+    ordering : reused by the ordering-aware backends; None: ``Ordering.from_matrix`` once,
+        reported as ``ordering_s`` and excluded from ``factor_s``.
+    backends : names to time (default: all available).
+    seed : of the random right-hand side.
+
+    Returns
+    -------
+    One dict per backend: ``backend``, ``factor_s``, ``solve_s``, ``residual`` (relative,
+    ``||A x - b||_2 / ||b||_2``), ``backward_error``, ``fell_back``, ``factor_nnz``,
+    ``ordering_s``.
+    """
+    A = sp.csr_matrix(A, dtype=np.float64)
+    b = np.random.default_rng(seed).standard_normal(A.shape[0])
+    ordering_s = 0.0
+    if ordering is None:
+        ordering = Ordering.from_matrix(A)
+        ordering_s = ordering.seconds
+    rows = []
+    for name in backends or available_backends():
+        row = dict(backend=name, factor_s=np.inf, solve_s=np.inf)
+        for _ in range(max(1, repeats)):
+            f = factor(A, name, ordering=ordering if name != "superlu" else None)
+            x = f.solve(b)                              # checked solve (may fall back)
+            row["factor_s"] = min(row["factor_s"], f.factor_seconds)
+            t0 = time.perf_counter()
+            f._solve(b)                                 # the bare solve, without the check
+            row["solve_s"] = min(row["solve_s"], time.perf_counter() - t0)
+            row.update(residual=float(np.linalg.norm(A @ x - b) / np.linalg.norm(b)),
+                       backward_error=f.backward_error, fell_back=f.fell_back,
+                       factor_nnz=f.factor_nnz,
+                       ordering_s=ordering_s if name != "superlu" else 0.0)
+            f.free()
+            del f
+        rows.append(row)
+    return rows
+
+
+# ----------------------------------------------------------------------------------------------
+# A synthetic Biot matrix for tests and benchmarks
+# ----------------------------------------------------------------------------------------------
+
+@dataclass
+class SyntheticBiot:
+    """A Biot step matrix on a structured P2/P1 triangle mesh (for tests and benchmarks only).
+
+    Attributes
+    ----------
+    A : (n, n) CSR, ``[[K, -Q], [-Q^T, -(S M + dt H)]]``, dofs numbered ``[u; p]``.
+    n_u, n_p : block sizes.
+    group_of_dof : (n,) node of each dof.
+    node_adjacency : (n_nodes, n_nodes) CSR node graph (nodes sharing an element).
+    """
+
+    A: sp.csr_matrix
+    n_u: int
+    n_p: int
+    group_of_dof: np.ndarray
+    node_adjacency: sp.csr_matrix
+
+
+def synthetic_biot_matrix(nx: int, ny: int | None = None, dt: float = 1.0,
+                          storage: float = 0.0, seed: int = 0, jitter: float = 0.2,
+                          keep_pattern: bool = True) -> SyntheticBiot:
+    """Assemble a plane-strain Biot step on a ``nx`` x ``ny`` grid of squares, two triangles each.
+
+    Not a model of any site: a matrix with the structure, scaling and pattern of the real one.
+    Six-node (P2) displacement, three-node (P1) pressure, width ``nx`` m, depth ``ny`` m;
+    bottom fixed, sides on rollers, top drained (p = 0). Young's modulus (kPa) and permeability
+    over unit weight of water (m/day / (kN/m3)) vary at random per element over one and two
+    decades (about 5 MPa and 1e-5). Interior vertices are moved at random by up to ``jitter``
+    times the spacing; ``jitter = 0`` gives centrally symmetric patches, on which the coupling
+    of a vertex's pressure to its own displacements vanishes (up to rounding).
+
+    Parameters
+    ----------
+    nx, ny : squares across and down (``ny`` defaults to ``nx``); about ``9 nx ny`` dofs.
+    dt : time step (days); 0 with ``storage = 0`` gives the undrained saddle point.
+    storage : storage coefficient S (1/kPa).
+    seed : random seed.
+    jitter : vertex displacement as a fraction of the spacing.
+    keep_pattern : keep explicit zeros so the pattern is the same for every ``dt``.
+    """
+    ny = nx if ny is None else ny
+    rng = np.random.default_rng(seed)
+    mx, my = 2 * nx + 1, 2 * ny + 1                     # fine grid: every P2 node is on it
+    fid = lambda I, J: J * mx + I                       # noqa: E731
+    # vertex coordinates, jittered inside
+    vx, vy = np.meshgrid(np.arange(nx + 1, dtype=float), np.arange(ny + 1, dtype=float),
+                         indexing="ij")
+    inner = (slice(1, nx), slice(1, ny))
+    vx[inner] += jitter * rng.uniform(-0.5, 0.5, vx[inner].shape)
+    vy[inner] += jitter * rng.uniform(-0.5, 0.5, vy[inner].shape)
+    X = np.zeros((mx, my))
+    Y = np.zeros((mx, my))
+    X[::2, ::2], Y[::2, ::2] = vx, vy
+    X[1::2, ::2], Y[1::2, ::2] = (vx[:-1] + vx[1:]) / 2, (vy[:-1] + vy[1:]) / 2
+    X[::2, 1::2], Y[::2, 1::2] = (vx[:, :-1] + vx[:, 1:]) / 2, (vy[:, :-1] + vy[:, 1:]) / 2
+    X[1::2, 1::2] = (vx[1:, :-1] + vx[:-1, 1:]) / 2     # midpoint of the diagonal b-c
+    Y[1::2, 1::2] = (vy[1:, :-1] + vy[:-1, 1:]) / 2
+    # triangles: (a, b, c) and (d, c, b) per square, then midpoints (01, 12, 20)
+    i, j = np.meshgrid(np.arange(nx), np.arange(ny), indexing="ij")
+    I, J = 2 * i.ravel(), 2 * j.ravel()
+    t1 = [(I, J), (I + 2, J), (I, J + 2), (I + 1, J), (I + 1, J + 1), (I, J + 1)]
+    t2 = [(I + 2, J + 2), (I, J + 2), (I + 2, J), (I + 1, J + 2), (I + 1, J + 1), (I + 2, J + 1)]
+    gi = np.concatenate([np.stack([a for a, _ in t1], 1), np.stack([a for a, _ in t2], 1)])
+    gj = np.concatenate([np.stack([b for _, b in t1], 1), np.stack([b for _, b in t2], 1)])
+    nodes = fid(gi, gj)                                  # (ne, 6)
+    xe = np.stack([X[gi, gj], Y[gi, gj]], -1)            # (ne, 6, 2)
+    ne = nodes.shape[0]
+
+    # reference P2/P1 on the unit triangle, 3-point rule (exact for the quadratic integrands)
+    qp = np.array([[1 / 6, 1 / 6], [2 / 3, 1 / 6], [1 / 6, 2 / 3]])
+    qw = np.full(3, 1 / 6)
+    L = np.stack([1 - qp.sum(1), qp[:, 0], qp[:, 1]], 1)             # (nq, 3)
+    dL = np.array([[-1.0, -1.0], [1.0, 0.0], [0.0, 1.0]])            # (3, 2)
+    pairs = [(0, 1), (1, 2), (2, 0)]
+    dN = np.zeros((3, 6, 2))                                         # (nq, 6, 2) d/dxi
+    for k in range(3):
+        dN[:, k] = (4 * L[:, k] - 1)[:, None] * dL[k]
+    for m, (a, c) in enumerate(pairs):
+        dN[:, 3 + m] = 4 * (L[:, a, None] * dL[c] + L[:, c, None] * dL[a])
+    Jm = np.einsum("eka,kb->eab", xe[:, :3], dL)                     # (ne, 2, 2) dx_a/dxi_b
+    det = Jm[:, 0, 0] * Jm[:, 1, 1] - Jm[:, 0, 1] * Jm[:, 1, 0]
+    Jinv = np.linalg.inv(Jm)                                         # dxi_b/dx_a = Jinv[b, a]
+    g = np.einsum("qkb,eba->eqka", dN, Jinv)                         # (ne, nq, 6, 2) d/dx
+    gp = np.einsum("kb,eba->eka", dL, Jinv)                          # (ne, 3, 2) P1 grads
+    wdet = qw[None, :] * det[:, None]                                # (ne, nq)
+
+    B = np.zeros((ne, 3, 3, 12))                                     # (ne, nq, voigt, 12)
+    B[..., 0, 0::2] = g[..., 0]
+    B[..., 1, 1::2] = g[..., 1]
+    B[..., 2, 0::2] = g[..., 1]
+    B[..., 2, 1::2] = g[..., 0]
+    E = 5000.0 * 10 ** rng.uniform(-0.5, 0.5, ne)
+    nu = 0.3
+    D0 = np.array([[1 - nu, nu, 0], [nu, 1 - nu, 0], [0, 0, (1 - 2 * nu) / 2]]) \
+        / ((1 + nu) * (1 - 2 * nu))
+    Ke = np.einsum("eq,eqsi,st,eqtj->eij", wdet, B, D0, B) * E[:, None, None]
+    div = B[..., 0, :] + B[..., 1, :]                                # (ne, nq, 12) m^T B
+    Qe = np.einsum("eq,eqi,qj->eij", wdet, div, L)                   # (ne, 12, 3), Biot alpha 1
+    kw = 1e-4 / 9.81 * 10 ** rng.uniform(-1, 1, ne)
+    He = np.einsum("e,eia,eja->eij", det / 2 * kw, gp, gp)           # area = det / 2
+    Me = np.einsum("eq,qi,qj->eij", wdet, L, L)
+
+    # dofs: u of free components in node order, then p at undrained-free vertices
+    n_nodes = mx * my
+    node_I, node_J = np.arange(n_nodes) % mx, np.arange(n_nodes) // mx
+    free = np.ones((n_nodes, 2), dtype=bool)
+    free[node_J == 0] = False                                        # bottom fixed
+    free[(node_I == 0) | (node_I == mx - 1), 0] = False              # side rollers
+    u_id = np.full(2 * n_nodes, -1)
+    u_id[free.ravel()] = np.arange(free.sum())
+    n_u = int(free.sum())
+    is_vertex = (node_I % 2 == 0) & (node_J % 2 == 0)
+    has_p = is_vertex & (node_J != my - 1)                           # top drained
+    p_id = np.full(n_nodes, -1)
+    p_id[has_p] = n_u + np.arange(has_p.sum())
+    n_p = int(has_p.sum())
+    n = n_u + n_p
+
+    edof_u = u_id[(2 * nodes[:, :, None] + np.arange(2)).reshape(ne, 12)]   # (ne, 12)
+    edof_p = p_id[nodes[:, :3]]                                              # (ne, 3)
+
+    def scatter(rows, cols, vals):
+        r = np.broadcast_to(rows[:, :, None], vals.shape).ravel()
+        c = np.broadcast_to(cols[:, None, :], vals.shape).ravel()
+        ok = (r >= 0) & (c >= 0)
+        return r[ok], c[ok], vals.ravel()[ok]
+
+    C = storage * Me + dt * He
+    parts = [scatter(edof_u, edof_u, Ke), scatter(edof_u, edof_p, -Qe),
+             scatter(edof_p, edof_u, -np.transpose(Qe, (0, 2, 1))), scatter(edof_p, edof_p, -C)]
+    r, c, v = (np.concatenate(z) for z in zip(*parts))
+    A = sp.csr_matrix((v, (r, c)), shape=(n, n))
+    if not keep_pattern:
+        A.eliminate_zeros()
+    A.sort_indices()
+
+    group = np.empty(n, dtype=np.int64)
+    group[u_id[u_id >= 0]] = np.flatnonzero(u_id >= 0) // 2
+    group[p_id[has_p]] = np.flatnonzero(has_p)
+    nr = np.repeat(nodes, 6, axis=1).ravel()
+    nc = np.tile(nodes, (1, 6)).ravel()
+    adjacency = sp.csr_matrix((np.ones(nr.size, dtype=np.int8), (nr, nc)),
+                              shape=(n_nodes, n_nodes))
+    adjacency.data[:] = 1
+    return SyntheticBiot(A=A, n_u=n_u, n_p=n_p, group_of_dof=group, node_adjacency=adjacency)
