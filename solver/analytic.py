@@ -102,9 +102,9 @@ def _scalar_if_0d(arr: np.ndarray) -> np.ndarray:
 
 # ============================================================================= Terzaghi
 # Below this time factor the image (erfc) series is used; above it the Fourier series. Both
-# are exact series; at the switch each converges to rounding with a handful of terms: the
-# first neglected image term is erfc(3 / sqrt(0.05)) ~ 1e-80 and the 60th Fourier term decays
-# as exp(-(119.5 pi / 2)^2 0.05) ~ 1e-780.
+# are exact series and converge to rounding with a handful of terms on their side of the
+# switch: the first neglected image term is below erfc(10 / (2 sqrt(0.05))) ~ 1e-219 and the
+# last Fourier term kept (m = 59) is already below exp(-(119 pi / 2)^2 0.05) ~ 1e-759.
 _EARLY_TV = 0.05
 _N_IMAGES = 5
 _N_FOURIER = 60
@@ -120,8 +120,9 @@ def _ierfc(order: int, x: np.ndarray) -> np.ndarray:
 
     Recurrence 2n i^n erfc(x) = i^(n-2) erfc(x) - 2x i^(n-1) erfc(x), with
     i^-1 erfc(x) = 2/sqrt(pi) exp(-x^2) and i^0 erfc = erfc (Carslaw & Jaeger 1959,
-    Conduction of Heat in Solids, 2nd ed., Appendix II; from memory). Where the recurrence
-    loses digits (large x) the values are below 1e-40 and only their absolute size matters.
+    Conduction of Heat in Solids, 2nd ed., Appendix II; from memory). At large x the
+    recurrence loses relative digits, but the cancelling terms are themselves of order
+    exp(-x^2), so the absolute error stays at rounding level, which is all the series need.
     """
     prev = 2.0 / np.sqrt(np.pi) * np.exp(-x * x)   # i^-1 erfc
     cur = erfc(x)                                  # i^0 erfc
@@ -399,6 +400,7 @@ def olson_ramp_average_degree(Tv: ArrayLike, Tvc: float) -> np.ndarray:
     Tvc = _check_ramp_time(Tvc)
     if Tvc == 0.0:
         return terzaghi_average_degree(Tv)
+    shape, Tv = Tv.shape, Tv.ravel()
     later = np.maximum(Tv - Tvc, 0.0)
     # when both ends are in the Fourier range, difference the decaying sums directly:
     # Gbar(T) - Gbar(T - Tvc) = sum 2/M^4 exp(-M^2 (T - Tvc)) (1 - exp(-M^2 Tvc))
@@ -409,7 +411,7 @@ def olson_ramp_average_degree(Tv: ArrayLike, Tvc: float) -> np.ndarray:
         diff[direct] = np.exp(-np.multiply.outer(later[direct], M * M)) @ (
             -2.0 / M**4 * np.expm1(-M * M * Tvc))
     U = np.minimum(Tv / Tvc, 1.0) - diff / Tvc
-    return _scalar_if_0d(U)
+    return _scalar_if_0d(U.reshape(shape))
 
 
 def olson_ramp_excess_pressure(z: ArrayLike, H: float, Tv: ArrayLike, Tvc: float,

@@ -140,6 +140,50 @@ class Mesh:
         """Sorted unique node ids on a named edge."""
         return np.unique(self.edge(name))
 
+    def locate(self, xy: np.ndarray, tol: float = 1e-9) -> tuple[np.ndarray, np.ndarray]:
+        """Element holding each point and its reference coordinates (xi, eta).
+
+        Parameters
+        ----------
+        xy : (n, 2) points, m.
+
+        Returns
+        -------
+        element : (n,) int, -1 for points outside the mesh.
+        ref : (n, 2) reference coordinates in that element (straight-sided map).
+        """
+        xy = np.atleast_2d(np.asarray(xy, float))
+        p = self.points[self.triangles[:, :3]]              # (ne, 3, 2)
+        d1, d2 = p[:, 1] - p[:, 0], p[:, 2] - p[:, 0]
+        det = d1[:, 0] * d2[:, 1] - d1[:, 1] * d2[:, 0]
+        elem = np.full(len(xy), -1, dtype=np.int64)
+        ref = np.zeros((len(xy), 2))
+        chunk = max(1, 2_000_000 // max(1, self.n_elements))
+        for s in range(0, len(xy), chunk):
+            q = xy[s:s + chunk, None, :] - p[None, :, 0]    # (nc, ne, 2)
+            xi = (q[..., 0] * d2[:, 1] - q[..., 1] * d2[:, 0]) / det
+            eta = (d1[:, 0] * q[..., 1] - d1[:, 1] * q[..., 0]) / det
+            inside = (xi >= -tol) & (eta >= -tol) & (xi + eta <= 1 + tol)
+            has = inside.any(axis=1)
+            first = inside.argmax(axis=1)
+            rows = np.arange(len(q))
+            elem[s:s + chunk] = np.where(has, first, -1)
+            ref[s:s + chunk] = np.column_stack([xi[rows, first], eta[rows, first]])
+        return elem, ref
+
+    def interpolate(self, nodal: np.ndarray, xy: np.ndarray) -> np.ndarray:
+        """Quadratic interpolation of nodal values (n_nodes, ...) at points (n, 2).
+
+        Points outside the mesh give NaN.
+        """
+        from .fem.element import p2
+        elem, ref = self.locate(xy)
+        N, _ = p2(ref)                                        # (n, 6)
+        vals = nodal[self.triangles[np.maximum(elem, 0)]]    # (n, 6, ...)
+        out = np.einsum("na,na...->n...", N, vals)
+        out[elem < 0] = np.nan
+        return out
+
     @property
     def h(self) -> float:
         """Mesh size: the largest element edge length, m."""

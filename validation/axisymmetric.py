@@ -46,12 +46,12 @@ def cylinder_errors(size: float) -> dict:
     ur = st.displacement()[:, 0]
     ex = lame_cylinder(rad, A, B_OUT, P_IN, 0.0, E, NU)
     sig = pb.effective_stress_at_nodes(st)
-    scale_u = np.abs(ex["u_r"]).max()
+    scale_u = np.abs(ex.u_r).max()
     return dict(
         r=rad, ur=ur, ex=ex, sig=sig,
-        u_err=float(np.abs(ur - ex["u_r"]).max() / scale_u),
-        srr_err=float(np.abs(sig[:, 0] - ex["sigma_rr"]).max() / P_IN),
-        stt_err=float(np.abs(sig[:, 2] - ex["sigma_tt"]).max() / P_IN))
+        u_err=float(np.abs(ur - ex.u_r).max() / scale_u),
+        srr_err=float(np.abs(sig[:, 0] - ex.sigma_rr).max() / P_IN),
+        stt_err=float(np.abs(sig[:, 2] - ex.sigma_tt).max() / P_IN))
 
 
 def run(quick: bool = True, out_dir: Path | None = None) -> list[Check]:
@@ -77,7 +77,7 @@ def run(quick: bool = True, out_dir: Path | None = None) -> list[Check]:
         ex = lame_cylinder(rr, A, B_OUT, P_IN, 0.0, E, NU)
         o = np.argsort(c["r"])
         ax = axes[0]
-        ax.plot(rr, ex["u_r"] * 1e3, "C0", label="Lame (1852)")
+        ax.plot(rr, ex.u_r * 1e3, "C0", label="Lame (1852)")
         ax.plot(c["r"][o], c["ur"][o] * 1e3, "o", ms=3, color="C0", label="finite elements")
         ax.set_xlabel("radius r (m)")
         ax.set_ylabel("radial displacement u_r (mm)")
@@ -85,8 +85,8 @@ def run(quick: bool = True, out_dir: Path | None = None) -> list[Check]:
         ax.legend(fontsize=8)
         ax.grid(alpha=0.3)
         ax = axes[1]
-        ax.plot(rr, ex["sigma_rr"], "C1", label="radial stress, Lame")
-        ax.plot(rr, ex["sigma_tt"], "C2", label="hoop stress, Lame")
+        ax.plot(rr, ex.sigma_rr, "C1", label="radial stress, Lame")
+        ax.plot(rr, ex.sigma_tt, "C2", label="hoop stress, Lame")
         ax.plot(c["r"][o], c["sig"][o, 0], "s", ms=3, color="C1", label="radial, FE")
         ax.plot(c["r"][o], c["sig"][o, 2], "^", ms=3, color="C2", label="hoop, FE")
         ax.set_xlabel("radius r (m)")

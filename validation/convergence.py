@@ -32,7 +32,7 @@ def l2_error(size: float) -> tuple[float, float]:
     d = pb.disc
     ue = st.u[d.u_dofs].reshape(-1, 6, 2)[..., 0]           # (ne, 6) nodal u_r
     uq = np.einsum("qa,ea->eq", d.N2, ue)
-    ex = lame_cylinder(d.xq[..., 0], A, B_OUT, P_IN, 0.0, E, NU)["u_r"]
+    ex = lame_cylinder(d.xq[..., 0], A, B_OUT, P_IN, 0.0, E, NU).u_r
     err = np.sqrt((d.dV * (uq - ex) ** 2).sum() / (d.dV * ex ** 2).sum())
     return r["mesh"].h, float(err)
 

@@ -1,10 +1,12 @@
 """Elastic strip load on a deep layer against the half-space stresses of Carothers (1920).
 
 A uniform vertical load q on a strip of width 2b, drained linear elasticity, plane strain.
-The closed form is for a half-space; the model is a half section 30b wide and 30b deep with a
-rough rigid base and a smooth far side. Domain-size effect (measured by doubling both
-dimensions): below 1 % of q on the centre-line stresses for z <= 4b, so the tolerance 3 % of q
-leaves room for the discretisation and the nodal averaging of stresses.
+The closed form is for a half-space; the model is a half section 60b wide and 60b deep with a
+rough rigid base and a smooth far side. Domain-size effect, measured by doubling both
+dimensions (30b -> 60b -> 120b): the vertical stress changes by less than 0.1 % of q for
+z <= 4b, the horizontal stress by 1.2 % of q at 60b (2.3 % at 30b, 0.6 % at 120b: it falls as
+1/extent). Tolerances: 1 % of q on the vertical stress (discretisation and nodal averaging of
+stresses), 2 % of q on the horizontal stress (the domain effect above plus the same).
 """
 
 from __future__ import annotations
@@ -27,12 +29,12 @@ SOURCE = ("Carothers (1920) Proc. R. Soc. A 97; closed form as in Poulos and Dav
           "Elastic Solutions for Soil and Rock Mechanics, sec. 3.1")
 Q = 100.0   # kPa
 B = 1.0     # half-width of the strip, m
-TOL = 0.03  # of q
+TOL_VERTICAL, TOL_HORIZONTAL = 0.01, 0.02  # of q
 
 
-def solve(extent: float = 30.0, size_near: float = 0.1) -> dict:
+def solve(extent: float = 60.0, size_near: float = 0.1) -> dict:
     mesh = strip_load_section(extent * B, extent * B, B, size_near=size_near * B,
-                              size_far=extent * B / 8)
+                              size_far=5.0 * B)
     soil = ElasticMaterial(10_000.0, 0.3, name="soil")
     problem = BiotProblem(mesh, {"soil": soil},
                           fixities=[Fixity("bottom", x=0.0, y=0.0), Fixity("left", x=0.0),
@@ -40,15 +42,12 @@ def solve(extent: float = 30.0, size_near: float = 0.1) -> dict:
                           tractions=[Traction("load", vertical=Q)])
     state = problem.drained_state()
     sig = -problem.total_stress_at_nodes(state)   # compression positive, as the closed form
-    pts = mesh.points
     out = {}
+    z = np.linspace(0.25, 4.0, 16) * B
     for label, x0 in (("centre", 0.0), ("edge", B)):
-        sel = np.flatnonzero((np.abs(pts[:, 0] - x0) < 1e-9) & (pts[:, 1] < -0.25 * B)
-                             & (pts[:, 1] >= -4.0 * B - 1e-9))
-        sel = sel[np.argsort(-pts[sel, 1])]
-        z = -pts[sel, 1]
+        s = mesh.interpolate(sig, np.column_stack([np.full(z.shape, x0), -z]))
         sz, sx, _ = strip_load_stresses(np.full(z.shape, x0), z, B, Q)
-        out[label] = dict(z=z, fe_z=sig[sel, 1], fe_x=sig[sel, 0], ex_z=sz, ex_x=sx)
+        out[label] = dict(z=z, fe_z=s[:, 1], fe_x=s[:, 0], ex_z=sz, ex_x=sx)
     return out
 
 
@@ -57,12 +56,14 @@ def run(quick: bool = True, out_dir: Path | None = None) -> list[Check]:
     checks = []
     for label in ("centre", "edge"):
         d = r[label]
-        checks.append(Check(NAME, f"vertical stress under the {label}, 0.25b < z <= 4b: "
+        checks.append(Check(NAME, f"vertical stress under the {label}, 0.25b <= z <= 4b: "
                                   "max |error| / q",
-                            float(np.abs(d["fe_z"] - d["ex_z"]).max() / Q), TOL, SOURCE))
-        checks.append(Check(NAME, f"horizontal stress under the {label}, 0.25b < z <= 4b: "
+                            float(np.abs(d["fe_z"] - d["ex_z"]).max() / Q), TOL_VERTICAL,
+                            SOURCE))
+        checks.append(Check(NAME, f"horizontal stress under the {label}, 0.25b <= z <= 4b: "
                                   "max |error| / q",
-                            float(np.abs(d["fe_x"] - d["ex_x"]).max() / Q), TOL, SOURCE))
+                            float(np.abs(d["fe_x"] - d["ex_x"]).max() / Q), TOL_HORIZONTAL,
+                            SOURCE))
     if out_dir is not None:
         fig, axes = figure()
         zz = np.linspace(0.01, 4.0, 200) * B
