@@ -1,0 +1,19 @@
+"""The engineer's hand method, beside the finite-element solution.
+
+Modules (pure functions over numpy arrays; numpy/scipy and :mod:`solver.analytic` only):
+
+- :mod:`solver.hand.stress` - stress increase under strips, embankments (any piecewise-linear
+  section), rectangles and circles in an elastic half-space; 2:1 spread; load objects.
+- :mod:`solver.hand.settlement` - layers, sublayers, initial effective stress, primary
+  (Cc/Cr/sigma'_p or mv), secondary and immediate settlement.
+- :mod:`solver.hand.rate` - Terzaghi and Olson rates of one layer; a finite-difference model
+  of a stack of unlike layers.
+- :mod:`solver.hand.differential` - differential settlement, angular distortion, limits.
+- :mod:`solver.hand.parameters` - mv, cv, Cc, Cr from other parameters.
+
+Conventions: kN, m, kPa, kN/m3, days, permeability m/day; stresses compression positive,
+depth z positive downward from the ground surface, settlement positive downward.
+
+Results inform design: they need review by a qualified engineer; local codes and licensed
+practice govern.
+"""

@@ -56,7 +56,8 @@ def mv_from_elastic(youngs_modulus: ArrayLike, poisson_ratio: ArrayLike) -> NDAr
     return 1.0 / constrained_modulus(youngs_modulus, poisson_ratio)
 
 
-def cv_from_permeability(permeability: ArrayLike, mv: ArrayLike, gamma_w: float = 9.81) -> NDArray[np.float64]:
+def cv_from_permeability(permeability: ArrayLike, mv: ArrayLike,
+                         gamma_w: float = 9.81) -> NDArray[np.float64]:
     """Coefficient of consolidation ``cv = k / (mv gamma_w)`` (m2/day), Terzaghi (1925).
 
     ``permeability`` k in m/day, ``mv`` in 1/kPa, ``gamma_w`` in kN/m3.

@@ -210,8 +210,9 @@ def layered_consolidation(thickness: ArrayLike, mv: ArrayLike, permeability: Arr
     storage ``C_i`` is half of ``mv h`` from each neighbour (lumped) and the flux between
     nodes is ``k/(gamma_w h) (u_i - u_j)``, so the flux ``k/gamma_w du/dz`` is continuous
     across interfaces and water volume is conserved exactly (finite-volume form;
-    Patankar 1980, *Numerical Heat Transfer and Fluid Flow*, harmonic-type interface
-    conductance when an interface is a node). Nodes cluster towards every layer face.
+    Patankar 1980, *Numerical Heat Transfer and Fluid Flow*); because interfaces are nodes,
+    every element has a single k and no averaging of k across an interface is needed.
+    Nodes cluster towards every layer face.
 
     Time stepping is Crank-Nicolson (Crank & Nicolson 1947, Proc. Cambridge Phil. Soc.
     43) after two backward-Euler steps, with steps growing geometrically by ``growth`` from
@@ -319,13 +320,14 @@ def layered_consolidation(thickness: ArrayLike, mv: ArrayLike, permeability: Arr
     n_drained = int(drained_top) + int(drained_bottom)
     t_char = t_char / max(n_drained, 1) ** 2 if t_char > 0.0 else 1.0
     with np.errstate(divide="ignore"):
-        lam_max = float(np.max(np.where(free & (cap > 0.0), 2.0 * kdiag / np.where(cap > 0.0, cap, 1.0), 0.0)))
+        rates = 2.0 * kdiag / np.where(cap > 0.0, cap, 1.0)   # Gershgorin bound per node
+        lam_max = float(np.max(np.where(free & (cap > 0.0), rates, 0.0)))
     dt = min(1e-6 * t_char, 0.5 / lam_max) if lam_max > 0.0 else 1e-6 * t_char
 
     targets = np.unique(np.r_[t_out, [tc] if tc > 0.0 else []])
     targets = targets[targets > 0.0]
     t_stop_min = float(t_out.max())
-    t_limit = max(t_stop_min, 1e3 * t_char)
+    t_limit = max(t_stop_min, tc + 1e3 * t_char)
 
     u = np.where(free, sigma_full * fraction(0.0), 0.0) if tc == 0.0 else np.zeros(nn)
     t = 0.0
@@ -431,7 +433,8 @@ def probe_consolidation(layers: Sequence[Layer], probe: ProbeSettlement, times: 
     names = [layers[i].name for i in idx]
     result = layered_consolidation(hs, mv, k, times, drained_top=drained_top, drained_bottom=drained_bottom,
                                    load_increase=load, construction_days=construction_days, free_draining=fd,
-                                   names=names, min_elements_per_layer=int(grid.pop("min_elements_per_layer", 2)),
+                                   names=names,
+                                   min_elements_per_layer=int(grid.pop("min_elements_per_layer", 2)),
                                    gamma_w=gamma_w, **grid)
     total = probe.total_settlement_m
     return replace(result, settlement_m=result.average_degree * total, final_settlement_m=total)

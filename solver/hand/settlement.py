@@ -364,7 +364,8 @@ def circle_immediate_settlement(q: float, radius: float, youngs_modulus: float,
                      fix="use 'centre' or 'rigid' for a finite layer")
 
 
-def _strip_depth_integrals(u: NDArray[np.float64], h: float) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
+def _strip_depth_integrals(u: NDArray[np.float64], h: float
+                           ) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
     """int_0^h arctan(u/z) dz and int_0^h 2 u z/(u^2+z^2) dz, both 0 at u = 0."""
     nz = u != 0.0
     uu = np.where(nz, u, 1.0)
@@ -416,7 +417,8 @@ def strip_immediate_settlement(x: ArrayLike, q: float, width: float, layer_thick
     """
     e, nu = _elastic(youngs_modulus, poisson_ratio)
     if not (np.isfinite(layer_thickness) and layer_thickness > 0.0):
-        raise InputError("a strip needs a finite layer thickness > 0 m (the half-space settlement is unbounded)",
+        raise InputError("a strip needs a finite layer thickness > 0 m "
+                         "(the half-space settlement is unbounded)",
                          field="layer_thickness", fix="give the depth to a stiff base")
     if not width > 0.0:
         raise InputError("strip width must be > 0 m", field="width")
@@ -441,7 +443,8 @@ def rigid_strip_immediate_settlement(q: float, width: float, layer_thickness: fl
     return float(0.5 * np.sum(wg * s))
 
 
-def chart_immediate_settlement(q: float, width: float, youngs_modulus: float, mu0: float, mu1: float) -> float:
+def chart_immediate_settlement(q: float, width: float, youngs_modulus: float, mu0: float,
+                               mu1: float) -> float:
     """Mean immediate settlement ``mu0 mu1 q B / Eu`` from chart factors (m).
 
     Janbu, Bjerrum & Kjaernsli (1956), NGI Publication 16 (charts revised by Christian &
@@ -517,7 +520,8 @@ def vertical_effective_stress(z: ArrayLike, layers: Sequence[Layer], water_table
     top = 0.0
     for layer in layers:  # a few layers
         bottom = top + layer.thickness
-        dry = layer.unit_weight_above_water if layer.unit_weight_above_water is not None else layer.unit_weight
+        dry = (layer.unit_weight_above_water if layer.unit_weight_above_water is not None
+               else layer.unit_weight)
         za = np.clip(z, top, bottom)                     # depth reached within this layer
         zw_c = np.clip(zw, top, bottom)
         above = np.clip(np.minimum(za, zw_c) - top, 0.0, None)

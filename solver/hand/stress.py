@@ -166,7 +166,8 @@ def linear_strip_stress(x: ArrayLike, z: ArrayLike, x_start: float, x_end: float
     with np.errstate(divide="ignore", invalid="ignore"):
         # z u2 / R2^2 and z ln(R2/R1) vanish on the surface (their limits as z -> 0).
         t2 = np.where(r2sq > 0.0, z * u2 / np.where(r2sq > 0.0, r2sq, 1.0), 0.0)
-        log_term = np.where(below, (z / length) * np.log(np.where(below, r2sq / np.where(below, r1sq, 1.0), 1.0)), 0.0)
+        ratio = np.where(below, r2sq / np.where(below, r1sq, 1.0), 1.0)
+        log_term = np.where(below, (z / length) * np.log(ratio), 0.0)
     tri_z = (u1 * alpha / length - t2) / np.pi
     tri_x = (u1 * alpha / length + log_term + t2) / np.pi
     dq = q_end - q_start
@@ -512,7 +513,8 @@ def _check(load_name: str, value: float, attr: str, what: str, positive: bool = 
     value = float(value)
     bad = (not np.isfinite(value)) or (positive and value <= 0.0)
     if bad:
-        raise InputError(f"load '{load_name}': {what} must be {'> 0' if positive else 'finite'}, got {value!r}",
+        raise InputError(f"load '{load_name}': {what} must be {'> 0' if positive else 'finite'}, "
+                         f"got {value!r}",
                          field=f"loads.{load_name}.{attr}", fix=f"give {what}" + (" > 0" if positive else ""))
 
 
