@@ -353,15 +353,22 @@ class Discretisation:
             B[:, :, 2, 0::2] = hoop
         return B
 
-    def nodal_average(self, element_node_values: np.ndarray) -> np.ndarray:
-        """Average (ne, 6, k) values at element nodes over the elements sharing each node."""
+    def nodal_average(self, element_node_values: np.ndarray,
+                      weights: np.ndarray | None = None) -> np.ndarray:
+        """Average (ne, 6, k) values at element nodes over the elements sharing each node.
+
+        ``weights`` (ne,) counts some elements only (e.g. the active ones); nodes of no
+        counted element get 0.
+        """
         t = self.mesh.triangles.ravel()
         k = element_node_values.shape[-1]
-        vals = element_node_values.reshape(-1, k)
-        count = np.bincount(t, minlength=self.mesh.n_nodes)
+        w = np.ones(self.mesh.n_elements) if weights is None else np.asarray(weights, float)
+        w6 = np.repeat(w, 6)
+        vals = element_node_values.reshape(-1, k) * w6[:, None]
+        count = np.bincount(t, weights=w6, minlength=self.mesh.n_nodes)
         out = np.stack([np.bincount(t, weights=vals[:, j], minlength=self.mesh.n_nodes)
                         for j in range(k)], axis=1)
-        return out / count[:, None]
+        return out / np.maximum(count, 1e-300)[:, None]
 
     def strain_at_nodes(self, u: np.ndarray) -> np.ndarray:
         """Strain (n_nodes, 4) [xx, yy, zz, xy], element values averaged at shared nodes."""

@@ -69,6 +69,15 @@ class RigidPlate:
 
 
 @dataclass
+class BodyForce:
+    """Self-weight of a region (a construction lift): ``unit_weight`` kN/m3 acting downward,
+    scaled in time by ``history``."""
+    region: str
+    unit_weight: float
+    history: History = constant
+
+
+@dataclass
 class BiotProblem:
     """A linear Biot consolidation problem on a mesh.
 
@@ -80,6 +89,10 @@ class BiotProblem:
     fixities, tractions, plates : boundary conditions on named edges.
     drained : names of edges where the excess pore pressure is zero (all other boundaries are
         impermeable).
+    drained_regions : regions that carry no excess pore pressure at all (free-draining fill).
+    body_forces : self-weight of regions (lifts), ramped in time.
+    active : (n_elements,) bool, the elements present now (None: all). Change it with
+        :meth:`activate`; nodes that belong to no active element are held fixed.
     gamma_w : unit weight of water, kN/m3.
     """
 
@@ -90,13 +103,27 @@ class BiotProblem:
     drained: list[str] = field(default_factory=list)
     tractions: list[Traction] = field(default_factory=list)
     plates: list[RigidPlate] = field(default_factory=list)
+    drained_regions: list[str] = field(default_factory=list)
+    body_forces: list[BodyForce] = field(default_factory=list)
+    active: np.ndarray | None = None
     gamma_w: float = GAMMA_W
 
     def __post_init__(self):
         self.disc = Discretisation(self.mesh, self.analysis)
+        ne = self.mesh.n_elements
+        self.active = (np.ones(ne, dtype=bool) if self.active is None
+                       else np.asarray(self.active, dtype=bool).copy())
         self._check_names()
+        # Strain each element had when it was placed (stress-free then), at its nodes and
+        # quadrature points, and the force that keeps it stress-free: sum B^T D eps_placed.
+        self.placed_strain_nodes = np.zeros((ne, 6, 4))
+        self.f_placed = np.zeros(self.disc.n_u)
+        self._body = [(bf, self.disc.body_force_vector(
+            np.zeros(ne), -bf.unit_weight * (self.mesh.region == self.mesh.region_id(bf.region))))
+            for bf in self.body_forces]
         self._assemble()
         self._constrain()
+        self.version = 0   # bumped whenever the matrix changes (activation)
 
     # ----------------------------------------------------------- checks
     def _check_names(self):
@@ -112,6 +139,8 @@ class BiotProblem:
                 self._edge(item.edge, kind)
         for name in self.drained:
             self._edge(name, "drained")
+        for r in self.drained_regions:
+            self.mesh.region_id(r)
 
     def _edge(self, name: str, kind: str) -> np.ndarray:
         if name not in self.mesh.edges:
@@ -129,11 +158,12 @@ class BiotProblem:
         ne = self.mesh.n_elements
         Ds = np.stack([self.materials[n].elasticity_matrix() for n in self.mesh.region_names])
         self.D = Ds[self.mesh.region]      # (ne, 4, 4)
-        Ke = d.stiffness_blocks(self.D)
-        Qe = d.coupling_blocks(self._per_element("biot_coefficient"))
-        SMe = d.mass_blocks(self._per_element("storage"))
-        He = d.flow_blocks(self._per_element("permeability_x") / self.gamma_w,
-                           self._per_element("permeability_y") / self.gamma_w)
+        on = self.active.astype(float)
+        Ke = d.stiffness_blocks(self.D * on[:, None, None])
+        Qe = d.coupling_blocks(self._per_element("biot_coefficient") * on)
+        SMe = d.mass_blocks(self._per_element("storage") * on)
+        He = d.flow_blocks(self._per_element("permeability_x") / self.gamma_w * on,
+                           self._per_element("permeability_y") / self.gamma_w * on)
         A0 = np.zeros((ne, 15, 15))
         A0[:, :12, :12] = Ke
         A0[:, :12, 12:] = -Qe
@@ -148,6 +178,29 @@ class BiotProblem:
     def _constrain(self):
         self._sets: dict[str, Constraints] = {}
         self.constraints(1.0)  # check the boundary conditions now, where the input enters
+
+    def activate(self, regions: list[str], x: np.ndarray) -> None:
+        """Place the elements of ``regions`` now, stress-free, given the current unknowns x.
+
+        Their nodes that were held (belonging to no active element) start from their held
+        value; the strain the new elements see from the displacement already reached is
+        recorded as their placed strain, so they carry no stress at placement.
+        """
+        d = self.disc
+        new = np.isin(self.mesh.region, [self.mesh.region_id(r) for r in regions]) & ~self.active
+        if not new.any():
+            return
+        ue = x[:d.n_u][d.u_dofs[new]]
+        eps_q = np.einsum("eqij,ej->eqi", d.B[new], ue)                 # (nn, nq, 4)
+        sig_q = np.einsum("eij,eqj->eqi", self.D[new], eps_q)
+        fe = np.einsum("eqij,eqi,eq->ej", d.B[new], sig_q, d.dV[new])
+        self.f_placed += np.bincount(d.u_dofs[new].ravel(), weights=fe.ravel(),
+                                     minlength=d.n_u)
+        self.placed_strain_nodes[new] = np.einsum("enij,ej->eni", d._node_B[new], ue)
+        self.active |= new
+        self._assemble()
+        self._constrain()
+        self.version += 1
 
     def constraints(self, dt: float) -> "Constraints":
         """The constraint set for a step: drained edges act only over a step of positive length
@@ -175,6 +228,11 @@ class BiotProblem:
         """Full-size force vector at time t (pressure rows zero) and plate forces (n_plates,)."""
         d = self.disc
         f = np.zeros(d.n_dofs)
+        f[:d.n_u] += self.f_placed
+        for bf, vec in self._body:
+            s = bf.history(t)
+            if s:
+                f[:d.n_u] += s * vec
         for tr in self.tractions:
             s = tr.history(t)
             if s == 0.0:
@@ -197,7 +255,9 @@ class BiotProblem:
         """Change of effective stress (n_nodes, 4) [xx, yy, zz, xy], kPa, tension positive."""
         d = self.disc
         eps = np.einsum("enij,ej->eni", d._node_B, state.u[d.u_dofs])   # (ne, 6, 4)
-        return d.nodal_average(np.einsum("eij,enj->eni", self.D, eps))
+        eps -= self.placed_strain_nodes
+        sig = np.einsum("eij,enj->eni", self.D, eps)
+        return d.nodal_average(sig, weights=self.active)
 
     def total_stress_at_nodes(self, state: "State") -> np.ndarray:
         """Change of total stress (n_nodes, 4), kPa, tension positive: sigma' - alpha p m."""
@@ -302,6 +362,17 @@ class Constraints:
                 if val is not None:
                     fixed[2 * nodes + comp] = True
                     x_fixed[2 * nodes + comp] = val
+        # Nodes of no active element are held where they are; free-draining regions and
+        # inactive nodes carry no excess pore pressure.
+        idle = np.ones(pb.mesh.n_nodes, dtype=bool)
+        idle[pb.mesh.triangles[pb.active].ravel()] = False
+        fixed[2 * np.flatnonzero(idle)] = True
+        fixed[2 * np.flatnonzero(idle) + 1] = True
+        no_p = idle.copy()
+        for r in pb.drained_regions:
+            no_p[pb.mesh.triangles[pb.mesh.region == pb.mesh.region_id(r)].ravel()] = True
+        pdofs = d.n_u + pb.mesh.pressure_index[np.flatnonzero(no_p)]
+        fixed[pdofs[pdofs >= d.n_u]] = True
         if mode == "drained":
             fixed[d.n_u:] = True
         elif mode == "consolidating":
@@ -379,9 +450,12 @@ class StepSolver:
     def factor_for(self, dt: float):
         from .. import linalg
         # Step lengths equal to 7 digits share a factorization.
-        key = float(np.float32(dt))
+        key = (self.problem.version, float(np.float32(dt)))
         fac = self._factors.get(key)
         if fac is None:
+            # Factors of a matrix that changed (elements placed) are never used again.
+            self._factors = {k: f for k, f in self._factors.items()
+                             if k[0] == self.problem.version}
             A = self.problem.matrix(dt)
             order = self.problem.ordering(dt) if self.backend == "superlu-nd" else None
             fac = linalg.factor(A, backend=self.backend, ordering=order)

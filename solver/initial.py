@@ -1,0 +1,144 @@
+"""The initial (geostatic) state: hydrostatic pore pressure and at-rest effective stresses.
+
+The solver works in changes from this state; it enters the outputs (total pore pressure,
+effective stresses), the hand method and stress-dependent materials.
+
+sigma'_v0 = integral of the effective unit weight from the ground surface down (total unit
+weight above the water table, saturated unit weight minus gamma_w below), sigma'_h0 =
+K0 sigma'_v0 with K0 = 1 - sin(phi') (Jaky 1944) when a friction angle is given, else the
+elastic at-rest value nu / (1 - nu) (common practice), unless K0 is given.
+Stresses here are compression positive.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .model import Material, Model
+
+
+def at_rest_coefficient(m: Material) -> float:
+    """K0 of a material: given, else Jaky (1944) from phi', else nu / (1 - nu)."""
+    if m.k0 is not None:
+        return float(m.k0)
+    if m.friction_angle is not None:
+        return 1.0 - np.sin(np.radians(m.friction_angle))
+    return m.poisson_ratio / (1.0 - m.poisson_ratio)
+
+
+def _saturated(m: Material) -> float:
+    return m.saturated_unit_weight if m.saturated_unit_weight is not None else m.unit_weight
+
+
+@dataclass
+class LayerColumn:
+    """The layers of the original ground as straight boundaries across [x_min, x_max]."""
+    x_min: float
+    x_max: float
+    thickness_left: np.ndarray   # (nl,)
+    thickness_right: np.ndarray  # (nl,)
+    materials: list[Material]
+
+    @classmethod
+    def from_model(cls, model: Model, x_min: float, x_max: float) -> "LayerColumn":
+        tl = np.array([ly.thickness for ly in model.layers], float)
+        tr = np.array([ly.thickness if ly.thickness_right is None else ly.thickness_right
+                       for ly in model.layers], float)
+        mats = [model.materials[ly.material] for ly in model.layers]
+        return cls(x_min, x_max, tl, tr, mats)
+
+    def tops(self, x: np.ndarray) -> np.ndarray:
+        """Elevation of the top of each layer and of the last base, (n, nl + 1)."""
+        s = np.clip((x - self.x_min) / max(self.x_max - self.x_min, 1e-300), 0.0, 1.0)
+        th = self.thickness_left[None] + s[:, None] * (self.thickness_right - self.thickness_left)[None]
+        return -np.concatenate([np.zeros((len(x), 1)), np.cumsum(th, axis=1)], axis=1)
+
+    def layer_index(self, x: np.ndarray, y: np.ndarray) -> np.ndarray:
+        tops = self.tops(x)
+        idx = (y[:, None] < tops[:, 1:-1] + 1e-9).sum(axis=1)
+        return np.minimum(idx, len(self.materials) - 1)
+
+
+def geostatic_stress(column: LayerColumn, water_table: float, gamma_w: float,
+                     x: np.ndarray, y: np.ndarray) -> dict[str, np.ndarray]:
+    """Initial state at points (x, y) below the ground surface y = 0.
+
+    Parameters
+    ----------
+    water_table : elevation of the water table, m (y = -depth of the table).
+
+    Returns
+    -------
+    dict with ``hydrostatic_kPa``, ``vertical_effective_kPa``, ``horizontal_effective_kPa``
+    (in-plane and out-of-plane, equal at rest), compression positive, each (n,).
+    """
+    x = np.asarray(x, float)
+    y = np.asarray(y, float)
+    tops = column.tops(x)                                    # (n, nl + 1)
+    sv = np.zeros(len(x))                                    # total vertical stress
+    for j, m in enumerate(column.materials):
+        top = np.minimum(tops[:, j], 0.0)
+        bot = np.maximum(tops[:, j + 1], y)
+        # split the part of layer j above y at the water table
+        dry = np.clip(top, water_table, None) - np.clip(bot, water_table, None)
+        wet = np.clip(top, None, water_table) - np.clip(bot, None, water_table)
+        sv += np.where(top > bot, m.unit_weight * np.maximum(dry, 0.0)
+                       + _saturated(m) * np.maximum(wet, 0.0), 0.0)
+    sv += gamma_w * max(water_table, 0.0)                    # free water above the ground
+    u0 = gamma_w * np.maximum(water_table - y, 0.0)
+    sv_eff = sv - u0
+    k0 = np.array([at_rest_coefficient(m) for m in column.materials])[column.layer_index(x, y)]
+    return {"hydrostatic_kPa": u0, "vertical_effective_kPa": sv_eff,
+            "horizontal_effective_kPa": k0 * sv_eff}
+
+
+def geostatic_stress_on_mesh(mesh, unit_weights: dict[str, tuple[float, float, float]],
+                             water_table: float, gamma_w: float, x: np.ndarray, y: np.ndarray,
+                             columns: int = 120, rows: int = 240) -> dict[str, np.ndarray]:
+    """Initial state on a user mesh: the overburden integrated down vertical columns.
+
+    ``unit_weights`` maps the regions present at the start to (unit weight, saturated unit
+    weight, K0); other regions (placed later) weigh nothing. The ground at a column is the
+    highest point of a starting region there. The integral is taken on a raster of
+    ``columns`` x ``rows`` samples over the mesh's bounding box (midpoint rule) and
+    interpolated linearly to the points: an approximation of the order of the raster spacing
+    times the unit weight, stated in docs/model.md.
+    """
+    lo, hi = mesh.points.min(axis=0), mesh.points.max(axis=0)
+    xs = np.linspace(lo[0], hi[0], columns)
+    dy = (hi[1] - lo[1]) / rows
+    ys = hi[1] - dy * (np.arange(rows) + 0.5)                  # cell midpoints, top down
+    gx, gy = np.meshgrid(xs, ys, indexing="ij")                  # (columns, rows)
+    elem, _ = mesh.locate(np.column_stack([gx.ravel(), gy.ravel()]))
+    names = mesh.region_names
+    g_dry = np.array([unit_weights.get(n, (0.0, 0.0, 0.0))[0] for n in names] + [0.0])
+    g_sat = np.array([unit_weights.get(n, (0.0, 0.0, 0.0))[1] for n in names] + [0.0])
+    k0s = np.array([unit_weights.get(n, (0.0, 0.0, 0.5))[2] for n in names] + [0.5])
+    starting = np.array([n in unit_weights for n in names] + [False])
+    reg = np.where(elem >= 0, mesh.region[np.maximum(elem, 0)], len(names)).reshape(gx.shape)
+    inside = starting[reg]
+    wet = gy < water_table
+    gamma = np.where(wet, g_sat[reg], g_dry[reg]) * inside
+    # total vertical stress at the bottom of each cell, then at the points
+    sv_cells = np.cumsum(gamma * dy, axis=1)
+    ground = np.where(inside.any(axis=1), hi[1] - dy * inside.argmax(axis=1), lo[1])
+    sv_cells += gamma_w * np.maximum(water_table - ground, 0.0)[:, None]
+    # sv at depth k * dy below the box top, k = 0..rows; linear between raster nodes
+    svk = np.concatenate([np.zeros((columns, 1)), sv_cells], axis=1)
+    x = np.asarray(x, float)
+    y = np.asarray(y, float)
+    fx = np.clip(np.interp(x, xs, np.arange(columns)), 0, columns - 1)
+    fy = np.clip((hi[1] - y) / dy, 0, rows)
+    i0 = np.minimum(np.floor(fx).astype(int), columns - 2) if columns > 1 else np.zeros_like(x, int)
+    j0 = np.minimum(np.floor(fy).astype(int), rows - 1)
+    ax, ay = fx - i0, fy - j0
+    sv = ((1 - ax) * ((1 - ay) * svk[i0, j0] + ay * svk[i0, j0 + 1])
+          + ax * ((1 - ay) * svk[i0 + 1, j0] + ay * svk[i0 + 1, j0 + 1]))
+    u0 = gamma_w * np.maximum(water_table - y, 0.0)
+    elem_p, _ = mesh.locate(np.column_stack([x, y]))
+    k0 = k0s[np.where(elem_p >= 0, mesh.region[np.maximum(elem_p, 0)], len(names))]
+    sv_eff = sv - u0
+    return {"hydrostatic_kPa": u0, "vertical_effective_kPa": sv_eff,
+            "horizontal_effective_kPa": k0 * sv_eff}
