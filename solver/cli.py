@@ -51,6 +51,74 @@ def _bench(args) -> int:
     return 0
 
 
+def _load(path: str):
+    from .model import load_model
+    return load_model(path)
+
+
+def _check(args) -> int:
+    from .simulation import Simulation
+    from .model import domain_warnings
+    model = _load(args.model)
+    sim = Simulation(model)
+    mesh, pb = sim.mesh, sim.problem
+    total = sum(s.duration for s in model.stages)
+    print(f"{model.title}")
+    print(f"  analysis      {model.analysis}")
+    print(f"  mesh          {mesh.n_elements} triangles (6-node), {mesh.n_nodes} nodes, "
+          f"regions: {', '.join(mesh.region_names)}")
+    print(f"  unknowns      {pb.disc.n_dofs} ({pb.disc.n_u} displacement, "
+          f"{pb.disc.n_p} pore pressure)")
+    print(f"  stages        {len(model.stages)}, at most {total:,.1f} days in all")
+    for st in model.stages:
+        extra = f", until {st.until_degree:.0%} consolidated" if st.until_degree else ""
+        what = f"lift {st.lift}" if st.kind == "lift" else (
+            f"{', '.join(st.loads)} to {st.factor:g}" if st.kind == "load" else "consolidate")
+        print(f"    {st.name:24s} {what:28s} {st.duration:10,.1f} days{extra}")
+    print(f"  probes        {', '.join(sim.probe_names) or '(none)'}")
+    print(f"  lines         {', '.join(ln.name for ln in model.lines) or '(none)'}")
+    for w in domain_warnings(model):
+        print(f"  warning: {w}")
+    print("Model is valid; nothing was solved.")
+    return 0
+
+
+def _mesh(args) -> int:
+    from .sections import build_mesh
+    model = _load(args.model)
+    mesh = build_mesh(model)
+    mesh.write(args.output)
+    print(f"wrote {args.output}: {mesh.n_elements} triangles, {mesh.n_nodes} nodes, "
+          f"regions {mesh.region_names}, edges {sorted(mesh.edges)}")
+    return 0
+
+
+def _run(args) -> int:
+    from .simulation import Simulation
+    from .model import domain_warnings
+    model = _load(args.model)
+    text = Path(args.model).read_text()
+    for w in domain_warnings(model):
+        print(f"warning: {w}", file=sys.stderr)
+    sim = Simulation(model, backend=args.linear_solver)
+    out = Path(args.output)
+    print(f"{model.title}: {sim.mesh.n_elements} triangles, {sim.problem.disc.n_dofs} unknowns, "
+          f"{len(model.stages)} stages -> {out}/", file=sys.stderr)
+    try:
+        result = sim.run(out, resume=args.resume, progress=not args.quiet, model_text=text)
+    except KeyboardInterrupt:
+        print(f"interrupted: finished steps are kept in {out}/; continue with "
+              f"'poroplane run {args.model} -o {out} --resume'", file=sys.stderr)
+        return 130
+    print(f"results in {out.resolve()}: results.xdmf (ParaView), probes.csv, lines.csv, "
+          f"summary.json ({result.info['steps']} steps, {result.info['wall_seconds']:.1f} s)")
+    if args.mesh_study:
+        from .mesh_study import mesh_study
+        print(mesh_study(model, sim, result, backend=args.linear_solver))
+    print(CAUTION)
+    return 0
+
+
 def build_parser() -> argparse.ArgumentParser:
     p = argparse.ArgumentParser(prog="poroplane", description=(
         "Coupled consolidation (Biot) finite elements beside the hand method, for "
@@ -64,6 +132,26 @@ def build_parser() -> argparse.ArgumentParser:
     v.add_argument("--json", action="store_true", help="print the checks as JSON")
     v.add_argument("--out", default="validation-results", help="folder for the comparison plots")
     v.set_defaults(func=_validate)
+
+    c = sub.add_parser("check", help="read, check and mesh a model file; solve nothing")
+    c.add_argument("model", help="model file (.toml)")
+    c.set_defaults(func=_check)
+
+    m = sub.add_parser("mesh", help="write the mesh of a model")
+    m.add_argument("model", help="model file (.toml)")
+    m.add_argument("-o", "--output", required=True, help="mesh file to write (.msh, .vtu, ...)")
+    m.set_defaults(func=_mesh)
+
+    r = sub.add_parser("run", help="solve a model through its stages, streaming results")
+    r.add_argument("model", help="model file (.toml)")
+    r.add_argument("-o", "--output", required=True, help="folder for the results")
+    r.add_argument("--resume", action="store_true",
+                   help="continue an interrupted run from its last finished step")
+    r.add_argument("--mesh-study", action="store_true",
+                   help="also solve on a uniformly refined mesh and report the change")
+    r.add_argument("--linear-solver", default=None, help="sparse direct solver backend")
+    r.add_argument("--quiet", action="store_true", help="no progress bar")
+    r.set_defaults(func=_run)
 
     b = sub.add_parser("bench", help="time assembly, factorization and stepping (a benchmark)")
     b.add_argument("--elements", type=int, default=20_000, help="target number of triangles")
