@@ -1,0 +1,180 @@
+"""The time loop of a Simulation: stages, steps, probes, streamed output, checkpoints, resume.
+
+Every finished step is on disk before the next starts (probe rows flushed, a checkpoint
+written atomically); ``resume`` restarts from the last checkpoint and reproduces the same step
+times, so a resumed run ends with the same numbers as an uninterrupted one.
+"""
+
+from __future__ import annotations
+
+import time as _time
+from pathlib import Path
+
+import numpy as np
+
+from . import CAUTION, __version__
+from .errors import InputError
+from .fem.biot import State, StepSolver
+
+
+class Runner:
+    def __init__(self, sim, out_dir=None, resume: bool = False, progress: bool = False,
+                 model_text: str | None = None):
+        self.sim = sim
+        self.out_dir = Path(out_dir) if out_dir is not None else None
+        self.resume = resume
+        self.progress = progress
+        self.model_text = model_text
+
+    # ------------------------------------------------------------------
+    def _start_stage(self, k: int, t0: float, x: np.ndarray, placement=None) -> None:
+        """Apply what stage k does at its start (place a lift, set load ramps)."""
+        sim, pb = self.sim, self.sim.problem
+        st = sim.model.stages[k]
+        if st.kind == "lift":
+            region = f"lift_{st.lift}"
+            if placement is None:
+                pb.activate([region], x)
+            sim.ramps[region].set(t0, st.duration, 1.0)
+        elif st.kind == "load":
+            for name in st.loads:
+                if name not in sim.ramps:
+                    raise InputError(f"stage {st.name!r} names load {name!r}, never defined",
+                                     field=f"stages[{k + 1}].loads", source=sim.model.source,
+                                     fix=f"use one of {sorted(n for n in sim.ramps if not n.startswith('lift_'))}.")
+                sim.ramps[name].set(t0, st.duration, st.factor)
+
+    def _restore_placement(self, arrays: dict) -> None:
+        pb = self.sim.problem
+        pb.active = arrays["active"].astype(bool)
+        pb.placed_strain_nodes = arrays["placed_strain_nodes"]
+        pb.f_placed = arrays["f_placed"]
+        pb._assemble()
+        pb._constrain()
+        pb.version = int(arrays["version"])
+
+    def run(self):
+        from .results import ResultWriter, probe_summary
+        from .simulation import PROBE_COLUMNS, RunResult
+        sim, pb, model = self.sim, self.sim.problem, self.sim.model
+        wall0 = _time.perf_counter()
+        writer = None
+        if self.out_dir is not None:
+            writer = ResultWriter(self.out_dir, sim.mesh, resume=self.resume,
+                                  run_info={"title": model.title, "version": __version__})
+        solver = StepSolver(pb, backend=sim.backend)
+        state = State(0.0, np.zeros(pb.disc.n_dofs), pb.disc.n_u)
+        info = {"stage": 0, "stage_step": 0, "stage_starts": [], "step": 0, "p_ref": None}
+        hist_t, hist_stage = [], []
+        hist = {name: {c: [] for c in PROBE_COLUMNS} for name in sim.probe_names}
+        lines = {ln.name: [] for ln in model.lines}
+        ck = writer.load_checkpoint() if (writer is not None and self.resume) else None
+        if ck is not None:
+            step, t, arrays, info = ck
+            state = State(t, arrays["x"], pb.disc.n_u)
+            for k, t0 in enumerate(info["stage_starts"]):
+                self._start_stage(k, t0, state.x, placement=True)
+            self._restore_placement(arrays)
+            hist_t = list(arrays["hist_t"])
+            hist_stage = list(info["hist_stage"])
+            vals = arrays["hist_vals"]            # (nt, n_probes, n_columns)
+            for i, name in enumerate(sim.probe_names):
+                for j, c in enumerate(PROBE_COLUMNS):
+                    hist[name][c] = list(vals[:, i, j]) if len(vals) else []
+        bar = None
+        if self.progress:
+            from tqdm import tqdm
+            planned = sum(len(sim.stage_times(0.0, s)) for s in model.stages)
+            bar = tqdm(total=planned, initial=info["step"], unit="step", leave=True,
+                       dynamic_ncols=True)
+        output_times = set(np.round(model.output.times, 9))
+        try:
+            for k in range(info["stage"], len(model.stages)):
+                st = model.stages[k]
+                if len(info["stage_starts"]) <= k:
+                    t0 = state.t
+                    self._start_stage(k, t0, state.x)
+                    info["stage_starts"].append(t0)
+                    info["stage_step"] = 0
+                    info["p_ref"] = float(sim._pressure_weights @ state.p)
+                t0 = info["stage_starts"][k]
+                times = sim.stage_times(t0, st)
+                for t in times[info["stage_step"]:]:
+                    state = solver.step(state, float(t))
+                    info["step"] += 1
+                    info["stage_step"] += 1
+                    last = info["stage_step"] == len(times)
+                    vals = sim.probe_values(state)
+                    hist_t.append(state.t)
+                    hist_stage.append(st.name)
+                    for i, name in enumerate(sim.probe_names):
+                        for c in PROBE_COLUMNS:
+                            hist[name][c].append(float(vals[c][i]))
+                    degree = None
+                    if st.until_degree is not None:
+                        ref = info["p_ref"]
+                        now = float(sim._pressure_weights @ state.p)
+                        degree = 1.0 - now / ref if abs(ref) > 1e-12 else 1.0
+                        last = last or degree >= st.until_degree
+                    is_output = last or round(state.t, 9) in output_times or \
+                        model.output.every_step
+                    if is_output:
+                        lv = sim.line_values(state)
+                        for name, arrs in lv.items():
+                            lines[name].append((state.t, st.name, arrs))
+                    if writer is not None:
+                        writer.write_probe_rows([
+                            {"time_days": state.t, "stage": st.name, "probe": name,
+                             "x_m": sim._probe_pts[i, 0], "y_m": sim._probe_pts[i, 1],
+                             **{c: vals[c][i] for c in PROBE_COLUMNS}}
+                            for i, name in enumerate(sim.probe_names)])
+                        if is_output:
+                            writer.write_fields(info["step"], state.t, st.name, sim.fields(state))
+                            writer.write_line_rows([
+                                {"time_days": state.t, "stage": st.name, "line": name,
+                                 **{c: arrs[c][j] for c in ("distance_m", "x_m", "y_m",
+                                                             "settlement_m",
+                                                             "horizontal_displacement_m",
+                                                             "excess_pore_pressure_kPa")}}
+                                for name, arrs in lv.items() for j in range(len(arrs["x_m"]))])
+                        if last:
+                            info["stage"] = k + 1
+                            info["stage_step"] = 0
+                        info["hist_stage"] = hist_stage
+                        writer.checkpoint(info["step"], state.t, self._arrays(state, hist_t,
+                                                                              hist), info)
+                    if bar is not None:
+                        bar.set_description(f"{st.name} | t = {state.t:,.1f} days", refresh=False)
+                        bar.update(1)
+                    if last:
+                        break
+                info["stage"] = k + 1
+                info["stage_step"] = 0
+        finally:
+            if bar is not None:
+                bar.close()
+        wall = _time.perf_counter() - wall0
+        probes = {n: {"time_days": np.array(hist_t), **{c: np.array(v) for c, v in h.items()}}
+                  for n, h in hist.items()}
+        run_info = {"version": __version__, "title": model.title,
+                    "elements": sim.mesh.n_elements, "dofs": pb.disc.n_dofs,
+                    "steps": info["step"], "factorizations": solver.n_factorizations,
+                    "wall_seconds": wall, "caution": CAUTION}
+        result = RunResult(np.array(hist_t), hist_stage, probes, lines, run_info, self.out_dir)
+        if writer is not None:
+            summary = {"run": run_info, "probes": probe_summary(probes)}
+            writer.write_summary(summary)
+            if self.model_text is not None:
+                writer.write_text("model.toml", self.model_text)
+            writer.close()
+        return result
+
+    def _arrays(self, state, hist_t, hist) -> dict:
+        from .simulation import PROBE_COLUMNS
+        pb = self.sim.problem
+        names = self.sim.probe_names
+        vals = np.array([[hist[n][c] for c in PROBE_COLUMNS] for n in names])  # (np, nc, nt)
+        vals = vals.transpose(2, 0, 1) if vals.size else np.zeros((len(hist_t), len(names), 0))
+        return {"x": state.x, "active": pb.active, "placed_strain_nodes": pb.placed_strain_nodes,
+                "f_placed": pb.f_placed, "version": np.array(pb.version),
+                "hist_t": np.array(hist_t), "hist_vals": vals}

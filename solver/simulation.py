@@ -1,0 +1,367 @@
+"""From a model to results: mesh, boundary conditions, stages, time steps, probes, output.
+
+    sim = Simulation(model)          # meshes and sets up; checks names
+    result = sim.run(out_dir=None)   # steps through the stages; returns probe histories
+
+Stages run in order. A ``lift`` stage places its lift stress-free at the stage start and ramps
+its weight on over the stage; a ``load`` stage ramps the named loads to ``factor`` (a stage of
+zero duration applies it at once, felt undrained); a ``consolidate`` stage changes nothing
+and may stop early at an average degree of consolidation. The embankment fill is treated as
+free-draining (no excess pore pressure in it; common practice for granular fill), so the
+ground under it drains through it.
+"""
+
+from __future__ import annotations
+
+import signal
+import time as _time
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+
+from . import CAUTION, __version__
+from .errors import InputError, SolverError
+from .fem.biot import (BiotProblem, BodyForce, Fixity, RigidPlate, State, StepSolver,
+                       Traction)
+from .fem import element
+from .materials.elastic import ElasticMaterial
+from .mesh import Mesh
+from .model import Material, Model
+from .stepping import level_schedule
+
+
+class Ramp:
+    """A load multiplier through time: piecewise linear between knots, held after the last.
+
+    Knots are added as the stages start (a stage ending early moves the later ones), so the
+    history is built while the run goes. A knot pair at one time is a jump; the value at that
+    time is the one after the jump.
+    """
+
+    def __init__(self, value: float = 0.0):
+        self.t: list[float] = [-np.inf]
+        self.v: list[float] = [value]
+
+    def set(self, t0: float, duration: float, target: float) -> None:
+        now = self(t0)
+        self.t += [t0, t0 + duration]
+        self.v += [now, target]
+
+    def __call__(self, t: float) -> float:
+        k = len(self.t) - 1
+        while k > 0 and self.t[k] > t:
+            k -= 1
+        if k == len(self.t) - 1:
+            return self.v[k]
+        t0, t1 = self.t[k], self.t[k + 1]
+        if t1 <= t0:
+            return self.v[k + 1]
+        return self.v[k] + (self.v[k + 1] - self.v[k]) * (t - t0) / (t1 - t0)
+
+
+def fe_material(m: Material, gamma_w: float) -> ElasticMaterial:
+    """The FE skeleton of a model material (linear elastic)."""
+    kw = dict(permeability_x=m.permeability_x, permeability_y=m.permeability_y,
+              biot_coefficient=m.biot_coefficient, storage=m.storage,
+              unit_weight=m.unit_weight, name=m.name)
+    if m.model != "linear elastic":
+        raise InputError(f"material model {m.model!r} is not available in this run",
+                         field=f"materials.{m.name}.model", source=None,
+                         fix='use model = "linear elastic".')
+    if m.youngs_modulus is not None:
+        return ElasticMaterial(m.youngs_modulus, m.poisson_ratio, **kw)
+    if m.constrained_modulus is not None:
+        return ElasticMaterial.from_constrained_modulus(m.constrained_modulus, m.poisson_ratio,
+                                                        **kw)
+    raise InputError("a linear elastic material needs youngs_modulus or constrained_modulus",
+                     field=f"materials.{m.name}", fix="give youngs_modulus in kPa.")
+
+
+PROBE_COLUMNS = ("settlement_m", "horizontal_displacement_m", "excess_pore_pressure_kPa",
+                 "total_pore_pressure_kPa", "vertical_effective_stress_kPa",
+                 "horizontal_effective_stress_kPa", "out_of_plane_effective_stress_kPa",
+                 "shear_stress_kPa")
+
+
+@dataclass
+class RunResult:
+    """Probe histories (arrays) and run data; also written to disk when a folder is given.
+
+    ``probes[name][column]`` are arrays over ``time_days``; ``lines[name]`` a list of
+    (time_days, stage, dict of arrays) at output times.
+    """
+    time_days: np.ndarray
+    stage: list[str]
+    probes: dict[str, dict[str, np.ndarray]]
+    lines: dict[str, list]
+    info: dict
+    out_dir: Path | None = None
+
+    def probe(self, name: str) -> dict[str, np.ndarray]:
+        if name not in self.probes:
+            raise InputError(f"no probe named {name!r}; the run has {sorted(self.probes)}",
+                             field="probes")
+        return self.probes[name]
+
+
+class Simulation:
+    """A model set up for solving: mesh, materials per region, conditions, probes."""
+
+    def __init__(self, model: Model, mesh: Mesh | None = None, backend: str | None = None):
+        from . import sections
+        self.model = model
+        self.mesh = mesh if mesh is not None else sections.build_mesh(model)
+        self.backend = backend
+        self._region_materials()
+        self._conditions()
+        self.problem = BiotProblem(self.mesh, self.fe_materials, analysis=model.analysis,
+                                   fixities=self.fixities, drained=self.drained_edges,
+                                   tractions=self.tractions, plates=self.plates,
+                                   drained_regions=self.fill_regions,
+                                   body_forces=self.body_forces, active=self.active0,
+                                   gamma_w=model.water.unit_weight)
+        self._initial_state()
+        self._probes()
+
+    # ------------------------------------------------------------ set-up
+    def _region_materials(self):
+        m, mesh = self.model, self.mesh
+        region_mat: dict[str, str] = {}
+        for ly in m.layers:
+            region_mat[ly.name] = ly.material
+        emb = m.section.embankment
+        if emb is not None:
+            for i in range(len(emb.lifts)):
+                region_mat[f"lift_{i + 1}"] = emb.material
+        region_mat.update(m.section.regions)
+        missing = [r for r in mesh.region_names if r not in region_mat]
+        if missing:
+            raise InputError(f"mesh regions {missing} have no material",
+                             field="section.regions", source=m.source,
+                             fix="map every mesh region to a material in [section.regions].")
+        for r, name in region_mat.items():
+            if name not in m.materials:
+                raise InputError(f"unknown material {name!r} for region {r!r}",
+                                 field="section.regions", source=m.source,
+                                 fix=f"use one of {sorted(m.materials)}.")
+        self.region_material = {r: m.materials[region_mat[r]] for r in mesh.region_names}
+        self.fe_materials = {r: fe_material(mat, m.water.unit_weight)
+                             for r, mat in self.region_material.items()}
+        self.lift_regions = [r for r in mesh.region_names if r.startswith("lift_")]
+        self.fill_regions = list(self.lift_regions)
+        self.active0 = ~np.isin(mesh.region, [mesh.region_id(r) for r in self.lift_regions])
+
+    def _conditions(self):
+        m, mesh = self.model, self.mesh
+        edges = mesh.edges
+        self.fixities, self.drained_edges = [], []
+        self.tractions, self.plates, self.body_forces = [], [], []
+        self.ramps: dict[str, Ramp] = {}
+        if m.section.kind == "mesh":
+            dr = m.drainage
+            self.fixities += [Fixity(e, x=0.0, y=0.0) for e in dr.fixed_edges]
+            self.fixities += [Fixity(e, x=0.0) for e in dr.roller_edges]
+            self.drained_edges += list(dr.drained_edges)
+        else:
+            self.fixities.append(Fixity("base", x=0.0, y=0.0))
+            for side in ("left", "right", "symmetry"):
+                if side in edges:
+                    self.fixities.append(Fixity(side, x=0.0))
+            if m.drainage.top:
+                self.drained_edges += [e for e in ("ground_free", "excavation_walls")
+                                       if e in edges]
+                if "ground_free" not in edges and "ground" in edges:
+                    self.drained_edges.append("ground")
+            if m.drainage.base:
+                self.drained_edges.append("base")
+            if m.drainage.sides:
+                self.drained_edges += [e for e in ("left", "right") if e in edges]
+        axi = m.analysis == "axisymmetric"
+        for load in m.loads:
+            ramp = self.ramps[load.name] = Ramp()
+            self.tractions.append(Traction(f"load_{load.name}", vertical=load.pressure,
+                                           history=ramp))
+        for ft in m.section.footings:
+            ramp = self.ramps[ft.name] = Ramp()
+            edge = f"footing_{ft.name}"
+            area = np.pi * (ft.width / 2) ** 2 if axi else ft.width
+            if ft.rigid:
+                force = ft.force if ft.force is not None else ft.load * area
+                self.plates.append(RigidPlate(edge, force=force, history=ramp))
+            else:
+                pressure = ft.load if ft.load is not None else ft.force / area
+                self.tractions.append(Traction(edge, vertical=pressure, history=ramp))
+        for r in self.lift_regions:
+            ramp = self.ramps[r] = Ramp()
+            self.body_forces.append(BodyForce(r, self.region_material[r].unit_weight, ramp))
+
+    def _initial_state(self):
+        """Geostatic state at the nodes and at the probes (compression positive)."""
+        from .initial import LayerColumn, at_rest_coefficient, geostatic_stress, \
+            geostatic_stress_on_mesh
+        m, mesh = self.model, self.mesh
+        wt = -m.water.table_depth
+        gw = m.water.unit_weight
+        if m.section.kind == "mesh":
+            weights = {r: (mat.unit_weight, mat.saturated_unit_weight or mat.unit_weight,
+                           at_rest_coefficient(mat))
+                       for r, mat in self.region_material.items() if r not in self.lift_regions}
+            self._geostatic = lambda x, y: geostatic_stress_on_mesh(mesh, weights, wt, gw, x, y)
+        else:
+            col = LayerColumn.from_model(m, mesh.points[:, 0].min(), mesh.points[:, 0].max())
+            self._geostatic = lambda x, y: geostatic_stress(col, wt, gw, x, y)
+        x, y = mesh.points.T
+        g = self._geostatic(x, np.minimum(y, 0.0))
+        ground = ~np.isin(mesh.region, [mesh.region_id(r) for r in self.lift_regions])
+        on_ground = np.zeros(mesh.n_nodes, bool)
+        on_ground[mesh.triangles[ground].ravel()] = True
+        for k in g:
+            g[k] = np.where(on_ground, g[k], 0.0)
+        self.initial = g
+
+    def _probes(self):
+        m, mesh = self.model, self.mesh
+        pts = np.array([[p.x, p.y] for p in m.probes], float).reshape(-1, 2)
+        self.probe_names = [p.name for p in m.probes]
+        if len(pts):
+            elem, ref = mesh.locate(pts, tol=1e-7)
+            bad = np.flatnonzero(elem < 0)
+            if bad.size:
+                p = m.probes[bad[0]]
+                raise InputError(f"probe {p.name!r} at ({p.x:g}, {p.y:g}) m lies outside the mesh",
+                                 field=f"probes[{bad[0]}]", source=m.source,
+                                 fix="move the probe inside the section (the ground surface "
+                                     "is y = 0, depth is negative y).")
+        else:
+            elem, ref = np.zeros(0, int), np.zeros((0, 2))
+        self._probe_elem, self._probe_pts = elem, pts
+        self._probe_N = element.p2(ref)[0]                  # (np, 6)
+        self._probe_B = self._b_at(elem, ref)
+        self._probe_init = self._geostatic(pts[:, 0], np.minimum(pts[:, 1], 0.0)) if len(pts) \
+            else None
+        self.lines = []
+        for ln in m.lines:
+            s = np.linspace(0.0, 1.0, ln.points)
+            xy = np.column_stack([ln.x0 + s * (ln.x1 - ln.x0), ln.y0 + s * (ln.y1 - ln.y0)])
+            e, r = mesh.locate(xy, tol=1e-7)
+            keep = e >= 0
+            self.lines.append((ln, xy[keep], np.hypot(*(xy[keep] - xy[0]).T), e[keep],
+                               element.p2(r[keep])[0]))
+
+    def _b_at(self, elem: np.ndarray, ref: np.ndarray) -> np.ndarray:
+        """B (n, 4, 12) at reference points of the given elements."""
+        mesh = self.mesh
+        N, dN_ref = element.p2(ref)                          # (n, 6), (n, 6, 2)
+        x = mesh.points[mesh.triangles[elem]]                # (n, 6, 2)
+        J = np.einsum("nai,naj->nij", x, dN_ref)
+        dN = np.einsum("naj,nji->nai", dN_ref, np.linalg.inv(J))
+        B = np.zeros((len(elem), 4, 12))
+        B[:, 0, 0::2] = dN[..., 0]
+        B[:, 1, 1::2] = dN[..., 1]
+        B[:, 3, 0::2] = dN[..., 1]
+        B[:, 3, 1::2] = dN[..., 0]
+        if self.model.analysis == "axisymmetric":
+            r = np.einsum("na,na->n", N, x[..., 0])
+            B[:, 2, 0::2] = N / np.maximum(r, 1e-12)[:, None]
+        return B
+
+    # ---------------------------------------------------------- outputs
+    def probe_values(self, state: State) -> dict[str, np.ndarray]:
+        """Probe quantities (user signs: settlement down, pressures and stresses in
+        compression positive), each (n_probes,)."""
+        pb, mesh = self.problem, self.mesh
+        e = self._probe_elem
+        if not len(e):
+            return {c: np.zeros(0) for c in PROBE_COLUMNS}
+        t = mesh.triangles[e]
+        u = state.displacement()[t]                          # (np, 6, 2)
+        uv = np.einsum("na,nai->ni", self._probe_N, u)
+        p_nodes = pb.disc.pressure_at_nodes(state.p)
+        p = np.einsum("na,na->n", self._probe_N, p_nodes[t])
+        ue = state.u[pb.disc.u_dofs[e]]
+        eps = np.einsum("nij,nj->ni", self._probe_B, ue)
+        eps -= np.einsum("na,nai->ni", self._probe_N, pb.placed_strain_nodes[e])
+        dsig = np.einsum("nij,nj->ni", pb.D[e], eps)           # change, tension positive
+        g = self._probe_init
+        return {
+            "settlement_m": -uv[:, 1],
+            "horizontal_displacement_m": uv[:, 0],
+            "excess_pore_pressure_kPa": p,
+            "total_pore_pressure_kPa": g["hydrostatic_kPa"] + p,
+            "vertical_effective_stress_kPa": g["vertical_effective_kPa"] - dsig[:, 1],
+            "horizontal_effective_stress_kPa": g["horizontal_effective_kPa"] - dsig[:, 0],
+            "out_of_plane_effective_stress_kPa": g["horizontal_effective_kPa"] - dsig[:, 2],
+            "shear_stress_kPa": dsig[:, 3],
+        }
+
+    def line_values(self, state: State) -> dict[str, dict[str, np.ndarray]]:
+        pb, mesh = self.problem, self.mesh
+        out = {}
+        p_nodes = pb.disc.pressure_at_nodes(state.p)
+        disp = state.displacement()
+        for ln, xy, dist, e, N in self.lines:
+            t = mesh.triangles[e]
+            uv = np.einsum("na,nai->ni", N, disp[t])
+            out[ln.name] = {"distance_m": dist, "x_m": xy[:, 0], "y_m": xy[:, 1],
+                            "settlement_m": -uv[:, 1], "horizontal_displacement_m": uv[:, 0],
+                            "excess_pore_pressure_kPa": np.einsum("na,na->n", N, p_nodes[t])}
+        return out
+
+    def fields(self, state: State) -> dict[str, np.ndarray]:
+        """Nodal fields for the field output (user signs)."""
+        pb = self.problem
+        p = pb.disc.pressure_at_nodes(state.p)
+        dsig = pb.effective_stress_at_nodes(state)
+        g = self.initial
+        eff = np.column_stack([g["horizontal_effective_kPa"] - dsig[:, 0],
+                               g["vertical_effective_kPa"] - dsig[:, 1],
+                               g["horizontal_effective_kPa"] - dsig[:, 2], dsig[:, 3]])
+        disp = state.displacement()
+        return {"displacement_m": disp, "settlement_m": -disp[:, 1],
+                "excess_pore_pressure_kPa": p,
+                "total_pore_pressure_kPa": g["hydrostatic_kPa"] + p,
+                "effective_stress_kPa": eff}
+
+    # -------------------------------------------------------- stepping
+    @property
+    def _pressure_weights(self) -> np.ndarray:
+        """Integral weight of each pressure unknown over the soil (for averages)."""
+        if not hasattr(self, "_pw"):
+            d = self.problem.disc
+            soil = ~np.isin(self.mesh.region,
+                            [self.mesh.region_id(r) for r in self.fill_regions])
+            Me = d.mass_blocks(soil.astype(float))
+            self._pw = np.bincount((d.p_dofs - d.n_u).ravel(), weights=Me.sum(axis=2).ravel(),
+                                   minlength=d.n_p)
+        return self._pw
+
+    def stage_times(self, t0: float, stage) -> np.ndarray:
+        """Step end times of a stage starting at t0 (the stage start itself excluded)."""
+        ts = self.model.time_steps
+        if stage.duration == 0:
+            return np.array([t0])
+        stops = [t for t in self.model.output.times if t0 < t < t0 + stage.duration]
+        times = level_schedule(t0 + stage.duration, ts.first_step, ts.growth,
+                               ts.steps_per_level, stops=stops, t_start=t0)[1:]
+        if ts.max_step:
+            # split steps longer than the cap into equal parts (lengths still repeat)
+            out, prev = [], t0
+            for t in times:
+                n = int(np.ceil((t - prev) / ts.max_step - 1e-9))
+                out += list(prev + (t - prev) * np.arange(1, n + 1) / n)
+                prev = t
+            times = np.array(out)
+        return times
+
+    def run(self, out_dir: str | Path | None = None, resume: bool = False,
+            progress: bool = False, model_text: str | None = None) -> RunResult:
+        """Step through all stages; stream results to ``out_dir`` when given."""
+        from .runner import Runner
+        return Runner(self, out_dir, resume=resume, progress=progress,
+                      model_text=model_text).run()
+
+
+def run(model: Model, out_dir: str | Path | None = None, **kw) -> RunResult:
+    """Mesh, solve and return the probe histories of a model (the scripting entry point)."""
+    return Simulation(model).run(out_dir, **kw)
