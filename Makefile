@@ -16,7 +16,8 @@ $(STAMP): $(BIN)/python pyproject.toml
 	touch $(STAMP)
 
 demo: $(STAMP)
-	MPLBACKEND=Agg $(BIN)/python examples/demo.py $(DEMO_OUT)
+	MPLBACKEND=Agg $(BIN)/poroplane run examples/embankment.toml -o $(DEMO_OUT)
+	@echo "The demo's results are in $(CURDIR)/$(DEMO_OUT)/ (open results.xdmf in ParaView)."
 
 test: $(STAMP)
 	MPLBACKEND=Agg $(BIN)/python -m pytest -q

@@ -154,7 +154,8 @@ class Runner:
             if bar is not None:
                 bar.close()
         wall = _time.perf_counter() - wall0
-        probes = {n: {"time_days": np.array(hist_t), **{c: np.array(v) for c, v in h.items()}}
+        probes = {n: {"time_days": np.array(hist_t), "stage": np.array(hist_stage, dtype=object),
+                      **{c: np.array(v) for c, v in h.items()}}
                   for n, h in hist.items()}
         run_info = {"version": __version__, "title": model.title,
                     "elements": sim.mesh.n_elements, "dofs": pb.disc.n_dofs,
