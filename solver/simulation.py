@@ -169,9 +169,11 @@ class Simulation:
                 if side in edges:
                     self.fixities.append(Fixity(side, x=0.0))
             if m.drainage.top:
-                self.drained_edges += [e for e in ("ground_free", "excavation_walls")
-                                       if e in edges]
-                if "ground_free" not in edges and "ground" in edges:
+                # The ground surface drains, also under surface loads (a preload drains
+                # upward); footing bases do not (concrete; common practice).
+                self.drained_edges += [e for e in edges if e in ("ground_free", "excavation_walls")
+                                       or e.startswith("load_")]
+                if "ground_free" not in edges and not m.section.footings and "ground" in edges:
                     self.drained_edges.append("ground")
             if m.drainage.base:
                 self.drained_edges.append("base")
