@@ -13,15 +13,32 @@ Backends (``available_backends()``):
 
 ``"superlu-nd"``
     SciPy SuperLU on ``P A P^T`` with ``P`` a METIS nested-dissection ordering (:class:`Ordering`),
-    natural column order, no pivoting, symmetric mode. Guarded: pressure-like dofs whose diagonal
-    is (near) zero are delayed until a coupled dof has been eliminated, and the first solve checks
-    the backward error; if the factors turn out inaccurate this ``Factor`` refactors once with
-    SuperLU's default (COLAMD ordering, partial pivoting) and sets ``fell_back = True``.
+    natural column order, no pivoting, symmetric mode. Guarded: a pressure-like dof whose diagonal
+    is (near) zero and which the order puts before every dof it couples to is delayed until they
+    are eliminated, and the first solve checks the backward error; if the factors turn out
+    inaccurate (or SuperLU reports an exactly singular pivot) this ``Factor`` refactors once with
+    SuperLU's default (COLAMD ordering, partial pivoting) and sets ``fell_back = True``. A matrix
+    that is not symmetric also ends there, correctly solved but slowly.
 ``"superlu"``
     SciPy SuperLU with its defaults (COLAMD, partial pivoting): robust, several times slower.
 ``"pardiso"``
     Intel MKL PARDISO through the optional ``pypardiso`` package (x86_64 only), symmetric
     indefinite (``mtype = -2``), analysed and factored once, each solve phase 33 only.
+
+Measured (synthetic P2/P1 plane-strain steps from :func:`synthetic_biot_matrix`, 2 cores, best
+or typical of runs on a noisy machine; factor time excludes the reused Ordering):
+
+    ========  ===========  ==========  =============  ===========  ==============
+    dofs      superlu-nd   superlu     pardiso        solve (nd)   ordering
+                                       (2 threads)                 groups / dofs
+    ========  ===========  ==========  =============  ===========  ==============
+    99 k      1.2-1.5 s    9.7 s       0.9-1.3 s      0.03 s       0.20 / 0.41 s
+    360 k     9.3-11 s     81 s        3.3-8.7 s      0.14 s       0.95 / 2.1 s
+    1.5 M     75 s         (not run)   18-28 s        0.7-0.9 s    5.2 / 11-14 s
+    ========  ===========  ==========  =============  ===========  ==============
+
+At 1.5 M dofs superlu-nd peaks at 12 GB (452 M nonzeros in L + U); PARDISO stores one
+triangle (245 M). Backward errors of all these solves were below 2e-14.
 
 Ordering requirement for the undrained instant: number each node's displacement dofs before its
 pressure dof (block numbering ``[u; p]`` does this). :meth:`Ordering.from_groups` keeps ascending
@@ -65,13 +82,17 @@ __all__ = [
     "synthetic_biot_matrix",
 ]
 
-#: Largest accepted normwise backward error ``||b - A x||_inf / (||A||_inf ||x||_inf + ||b||_inf)``
-#: of a solve. A backward-stable factorization gives a few units of machine epsilon times a
-#: modest growth factor (about 1e-16 .. 1e-14 on the Biot matrices measured); a factorization
-#: spoiled by a tiny pivot gives growth of 1e6 or more. 1e-10 sits four orders above the stable
-#: level and, unlike ``||r|| / ||b||``, does not fire merely because ``A`` is ill-conditioned
-#: (the forward error is still bounded by cond(A) times this number).
-BACKWARD_ERROR_TOL = 1e-10
+#: Largest accepted backward error of a solve, measured on the symmetrically equilibrated system
+#: ``S A S (S^-1 x) = S b`` with ``S = diag(1 / sqrt(max_j |a_ij|))`` (normwise, inf-norm: Higham
+#: 2002, Thm 7.1). Equilibrating first matters: K (~1e4 kPa) and dt*H (~1e-5) differ by nine
+#: orders, and the plain normwise error hides a ruined pressure block, while ``||r|| / ||b||``
+#: depends on the scaling of ``b`` and fires on well-solved ill-conditioned systems. Measured on
+#: synthetic P2/P1 Biot matrices: backward-stable solves give 1e-18 .. 6e-15; a no-pivot
+#: factorization spoiled by a tiny pivot (pressure eliminated first, dt from 1e-5 down) gives
+#: 6e-13 .. 7e-6, with a forward error about 1e3 times that. At 1e-12 the accepted solutions
+#: are within about 1e-9 (relative) of a pivoted solve, and the limit sits 170 times above the
+#: worst stable solve seen.
+BACKWARD_ERROR_TOL = 1e-12
 
 # A dof whose |diagonal| is below this fraction of its row's largest |entry| is "pressure-like"
 # (e.g. the zero pressure block at the undrained instant, or dt*H tiny next to Q); an off-diagonal
@@ -254,7 +275,7 @@ def available_backends() -> list[str]:
 
 def default_backend() -> str:
     """The fastest installed backend by measurement: ``"pardiso"`` if importable, else
-    ``"superlu-nd"`` (see DEVELOPERS.md / :func:`measure_backends` for the numbers)."""
+    ``"superlu-nd"`` (numbers in this module's docstring; rerun with :func:`measure_backends`)."""
     return "pardiso" if _pardiso_entry() is not None else "superlu-nd"
 
 
@@ -268,10 +289,13 @@ class Factor:
         fallback refactorization.
     fell_back : True if the no-pivot factorization was inaccurate or hit an exactly zero pivot,
         and this Factor refactored with SuperLU's pivoting default instead.
-    backward_error : normwise backward error of the checked solve (None before the first solve).
-    factor_nnz : nonzeros in the factors (a memory measure), if the backend tells.
-    check_every_solve : check the backward error of every solve (one matvec each, about 5% of a
-        solve) rather than only the first.
+    backward_error : backward error of the last checked solve (see ``BACKWARD_ERROR_TOL``),
+        None before the first solve.
+    factor_nnz : nonzeros stored in the factors, a memory measure (L + U for SuperLU, the one
+        triangle for PARDISO).
+    check_every_solve : check the backward error of every solve rather than only the first
+        (one matvec, measured 6-7% of a solve at 0.1-0.36 M dofs). Off by default: the check
+        tests the factors, and the first solve already shows a spoiled factorization.
     """
 
     backend: str
@@ -281,7 +305,9 @@ class Factor:
     factor_nnz: int | None
 
     def __init__(self, A: sp.csr_matrix, backend: str):
-        self.A = A
+        # A copy: callers may assemble the next matrix into the same arrays (same pattern),
+        # and the check and the fallback must see the matrix that was factored.
+        self.A = A.copy()
         self.n = A.shape[0]
         self.backend = backend
         self.factor_seconds = 0.0
@@ -290,7 +316,7 @@ class Factor:
         self.factor_nnz = None
         self.check_every_solve = False
         self._checked = False
-        self._a_norm = None
+        self._freed = False
 
     def solve(self, b: np.ndarray) -> np.ndarray:
         """Solve ``A x = b``.
@@ -307,6 +333,8 @@ class Factor:
         if b.ndim not in (1, 2) or b.shape[0] != self.n:
             raise InputError(f"right-hand side has shape {b.shape}; the matrix has {self.n} rows.",
                              field="b")
+        if self._freed:
+            raise SolverError("this Factor was freed; factor the matrix again.")
         x = self._solve(b)
         if not self._checked or self.check_every_solve:
             self._checked = True
@@ -316,15 +344,30 @@ class Factor:
                 x = self._recover(b, eta)
         return x
 
+    @functools.cached_property
+    def _rowmax(self) -> np.ndarray:
+        """(n,) largest |entry| of each row."""
+        if self.A.nnz == 0:
+            return np.zeros(self.n)
+        return abs(self.A).max(axis=1).toarray().ravel()
+
+    @functools.cached_property
+    def _equilibration(self) -> tuple[np.ndarray, float]:
+        """``s`` with ``S A S`` of unit row maxima (about), and ``||S A S||_inf``."""
+        rowmax = self._rowmax
+        s = 1.0 / np.sqrt(np.where(rowmax > 0, rowmax, 1.0))
+        a_norm = float(np.max(s * (abs(self.A) @ s))) if self.A.nnz else 0.0
+        return s, a_norm
+
     def _backward_error(self, b: np.ndarray, x: np.ndarray) -> float:
-        """Normwise backward error (Higham 2002, Thm 7.1, inf-norm), worst column."""
-        if self._a_norm is None:
-            self._a_norm = float(abs(self.A).sum(axis=1).max()) if self.A.nnz else 0.0
-        r = b - self.A @ x
-        r_n = np.abs(r).max(axis=0)
-        den = self._a_norm * np.abs(x).max(axis=0) + np.abs(b).max(axis=0)
+        """Normwise backward error of the equilibrated system (inf-norm), worst column."""
+        s, a_norm = self._equilibration
+        if b.ndim == 2:
+            s = s[:, None]
+        r = np.abs(s * (b - self.A @ x)).max(axis=0)
+        den = a_norm * np.abs(x / s).max(axis=0) + np.abs(s * b).max(axis=0)
         with np.errstate(invalid="ignore", divide="ignore"):
-            eta = np.where(den > 0, r_n / np.where(den > 0, den, 1.0), 0.0)
+            eta = np.where(den > 0, r / np.where(den > 0, den, 1.0), 0.0)
         eta = np.where(np.isfinite(x).all(axis=0), eta, np.inf)
         return float(np.max(eta))
 
@@ -351,8 +394,9 @@ class Factor:
         return True
 
     def _fall_back(self) -> None:
-        self.free()
+        self.free()                                     # drop the failed factors first
         self._lu = _splu_default(self.A)
+        self._freed = False
         self.factor_nnz = self._lu.L.nnz + self._lu.U.nnz
         self._solve = self._solve_superlu_default
 
@@ -363,7 +407,9 @@ class Factor:
         raise NotImplementedError
 
     def free(self) -> None:
-        """Release the factors' memory now rather than at garbage collection."""
+        """Release the factors' memory now rather than at garbage collection; no solves after."""
+        self._lu = None
+        self._freed = True
 
     def __repr__(self) -> str:
         return (f"Factor(backend={self.backend!r}, n={self.n}, factor_seconds="
@@ -402,7 +448,7 @@ class _SuperLUNDFactor(Factor):
         t0 = time.perf_counter()
         if ordering is None:
             ordering = Ordering.from_matrix(A)
-        perm = _delay_weak_pivots(A, ordering.perm)
+        perm = _delay_weak_pivots(A, ordering.perm, self._rowmax)
         iperm = np.empty_like(perm)
         iperm[perm] = np.arange(perm.size)
         self._perm, self._iperm = perm, iperm
@@ -429,18 +475,20 @@ def _permuted_symmetric_csc(A: sp.csr_matrix, perm: np.ndarray, iperm: np.ndarra
     return B
 
 
-def _delay_weak_pivots(A: sp.csr_matrix, perm: np.ndarray) -> np.ndarray:
-    """Move each dof with a (near) zero diagonal to just after its earliest strongly coupled
-    neighbour, if no such neighbour precedes it already.
+def _delay_weak_pivots(A: sp.csr_matrix, perm: np.ndarray, rowmax: np.ndarray) -> np.ndarray:
+    """Move each dof with a (near) zero diagonal that precedes all its strongly coupled
+    neighbours to just after the last of them.
 
     Why: with diagonal pivots only, a dof eliminated before every dof it couples to meets its own
-    diagonal as pivot; at the undrained instant that is exactly zero (or rounding noise: on a
-    centrally symmetric patch the coupling of a node's pressure to its own displacements vanishes
-    analytically). After one coupled displacement dof j is eliminated the pivot becomes
-    ``-Q_ij^2 / d_j``, which is negative and bounded away from zero (Vanderbei 1995).
+    diagonal as pivot; at the undrained instant that is exactly zero, for small dt it is tiny.
+    Eliminated after all its coupled displacement dofs, its pivot is the Schur complement
+    ``-(C + q^T K_s^-1 q)``, negative and bounded away from zero (Vanderbei 1995). Placing it
+    after only the first coupled dof was measured to be unstable (backward error up to 1e-3
+    at dt = 0); after the last one it was as accurate as the nested-dissection order, with 25%
+    more fill on an adversarial pressure-first order. Orders from :class:`Ordering` with the
+    u-before-p numbering rarely trigger this at all.
     """
     diag = np.abs(A.diagonal())
-    rowmax = np.abs(A).max(axis=1).toarray().ravel() if A.nnz else np.zeros(A.shape[0])
     weak = np.flatnonzero(diag <= _WEAK_FRACTION * rowmax)
     if weak.size == 0:
         return perm
@@ -449,23 +497,28 @@ def _delay_weak_pivots(A: sp.csr_matrix, perm: np.ndarray) -> np.ndarray:
     sub = A[weak].tocoo()                               # rows of the weak dofs only
     rows = weak[sub.row]
     strong = (sub.col != rows) & (np.abs(sub.data) > _WEAK_FRACTION * rowmax[rows])
-    first = np.full(weak.size, np.iinfo(np.int64).max)
+    first = np.full(weak.size, perm.size)
+    last = np.full(weak.size, -1)
     np.minimum.at(first, sub.row[strong], pos[sub.col[strong]])
-    late = first < np.iinfo(np.int64).max
-    late &= first > pos[weak]                           # no strong neighbour precedes it
-    if not late.any():
+    np.maximum.at(last, sub.row[strong], pos[sub.col[strong]])
+    move = (last >= 0) & (first > pos[weak])            # no strong neighbour precedes it
+    if not move.any():
         return perm
     key = 2 * pos                                       # even keys: everyone where they are
-    key[weak[late]] = 2 * first[late] + 1               # odd: right after that neighbour
+    key[weak[move]] = 2 * last[move] + 1                # odd: right after that neighbour
     return perm[np.argsort(key[perm], kind="stable")]
 
 
 class _PardisoFactor(Factor):
-    """MKL PARDISO, real symmetric indefinite: phase 11 + 22 once, phase 33 per solve."""
+    """MKL PARDISO, real symmetric indefinite: phase 11 + 22 once, phase 33 per solve.
+
+    Extra attributes: ``inertia`` (positive, negative eigenvalue counts; (n_u, n_p) for a sound
+    Biot matrix) and ``perturbed_pivots`` (nonzero: PARDISO perturbed tiny pivots and refined).
+    """
 
     _MTYPE = -2
 
-    def __init__(self, A: sp.csr_matrix, ordering: Ordering | None):
+    def __init__(self, A: sp.csr_matrix):
         super().__init__(A, "pardiso")
         entry = _pardiso_entry()
         t0 = time.perf_counter()
@@ -488,19 +541,16 @@ class _PardisoFactor(Factor):
         iparm[17] = -1          # iparm(18): report nonzeros in the factors
         iparm[20] = 1           # iparm(21): Bunch-Kaufman 1x1 and 2x2 pivots
         iparm[34] = 1           # iparm(35): zero-based ia/ja (no shifted copies)
+        # No user permutation (iparm(5) = 0): PARDISO's own METIS on the compressed graph was
+        # measured as fast or faster than ours (1.5 M dofs: 21-28 s vs 18-41 s, noisy machine),
+        # its time included, so a given Ordering is not used here.
         self._perm = np.zeros(self.n, dtype=np.int32)
-        if ordering is not None:
-            if ordering.n != self.n:
-                raise InputError(f"ordering has {ordering.n} dofs; the matrix has {self.n}.",
-                                 field="ordering")
-            iparm[4] = 1        # iparm(5): use our permutation; PARDISO wants old -> new
-            self._perm[:] = ordering.iperm
         self._iparm = iparm
         self._entry = entry
         # PARDISO keeps its factors outside Python: free them when this object goes.
         self._finalizer = weakref.finalize(self, _pardiso_release, entry, self._pt, self._iparm,
                                            self.n)
-        dummy = np.zeros(1)
+        dummy = np.zeros(self.n)                        # b and x are not read in 11 and 22
         self._call(11, dummy, dummy, 1)
         self._call(22, dummy, dummy, 1)
         self.factor_seconds = time.perf_counter() - t0
@@ -528,6 +578,7 @@ class _PardisoFactor(Factor):
     def free(self) -> None:
         if self._finalizer.alive:
             self._finalizer()
+        super().free()
 
 
 def _upper_with_diagonal(A: sp.csr_matrix) -> sp.csr_matrix:
@@ -573,9 +624,9 @@ def factor(A, backend: str | None = None, ordering: Ordering | None = None) -> F
     A : (n, n) scipy sparse matrix, symmetric; converted to CSR float64 if needed.
     backend : one of :func:`available_backends`; None picks :func:`default_backend`.
     ordering : an :class:`Ordering` of the same n, computed once per sparsity pattern and reused
-        (used by ``"superlu-nd"`` and ``"pardiso"``); None: ``"superlu-nd"`` computes
-        :meth:`Ordering.from_matrix` here (its time is in ``factor_seconds``), ``"pardiso"``
-        orders internally.
+        by ``"superlu-nd"``; None: it computes :meth:`Ordering.from_matrix` here (its time is in
+        ``factor_seconds``). ``"pardiso"`` orders internally and ``"superlu"`` uses COLAMD; both
+        ignore it.
 
     Returns
     -------
@@ -608,7 +659,7 @@ def factor(A, backend: str | None = None, ordering: Ordering | None = None) -> F
         return _SuperLUNDFactor(A, ordering)
     if backend == "superlu":
         return _SuperLUFactor(A)
-    return _PardisoFactor(A, ordering)
+    return _PardisoFactor(A)
 
 
 # ----------------------------------------------------------------------------------------------
@@ -623,8 +674,8 @@ def measure_backends(A, repeats: int = 3, ordering: Ordering | None = None,
     ----------
     A : (n, n) sparse symmetric matrix.
     repeats : factorizations (and solves) per backend; the minimum time is reported.
-    ordering : reused by the ordering-aware backends; None: ``Ordering.from_matrix`` once,
-        reported as ``ordering_s`` and excluded from ``factor_s``.
+    ordering : reused by ``"superlu-nd"``; None: ``Ordering.from_matrix`` once, reported as
+        ``ordering_s`` and excluded from ``factor_s``.
     backends : names to time (default: all available).
     seed : of the random right-hand side.
 
@@ -644,7 +695,7 @@ def measure_backends(A, repeats: int = 3, ordering: Ordering | None = None,
     for name in backends or available_backends():
         row = dict(backend=name, factor_s=np.inf, solve_s=np.inf)
         for _ in range(max(1, repeats)):
-            f = factor(A, name, ordering=ordering if name != "superlu" else None)
+            f = factor(A, name, ordering=ordering)
             x = f.solve(b)                              # checked solve (may fall back)
             row["factor_s"] = min(row["factor_s"], f.factor_seconds)
             t0 = time.perf_counter()
@@ -653,7 +704,7 @@ def measure_backends(A, repeats: int = 3, ordering: Ordering | None = None,
             row.update(residual=float(np.linalg.norm(A @ x - b) / np.linalg.norm(b)),
                        backward_error=f.backward_error, fell_back=f.fell_back,
                        factor_nnz=f.factor_nnz,
-                       ordering_s=ordering_s if name != "superlu" else 0.0)
+                       ordering_s=ordering_s if name == "superlu-nd" else 0.0)
             f.free()
             del f
         rows.append(row)
