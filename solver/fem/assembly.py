@@ -258,12 +258,12 @@ class Discretisation:
     def stiffness_blocks(self, D: np.ndarray) -> np.ndarray:
         """K_e = sum_q dV B^T D B, (ne, 12, 12); D (ne, 4, 4) or (ne, nq, 4, 4)."""
         B = self.B
-        if D.ndim == 3:
-            DB = np.matmul(D[:, None], B)                     # (ne, nq, 4, 12)
-        else:
-            DB = np.matmul(D, B)
-        BtDB = np.matmul((B * self.dV[..., None, None]).transpose(0, 1, 3, 2), DB)
-        return BtDB.sum(axis=1)
+        ne, nq = self.detJ.shape
+        DB = np.matmul(D[:, None] if D.ndim == 3 else D, B)       # (ne, nq, 4, 12)
+        Bw = B * self.dV[..., None, None]
+        # One batched product per element, summing over (quad point, component) at once.
+        return np.matmul(Bw.reshape(ne, nq * 4, 12).transpose(0, 2, 1),
+                         DB.reshape(ne, nq * 4, 12))
 
     def coupling_blocks(self, alpha: np.ndarray) -> np.ndarray:
         """Q_e = sum_q dV alpha (B^T m) N_p, (ne, 12, 3); alpha per element (ne,)."""
