@@ -14,7 +14,7 @@ import numpy as np
 
 from . import CAUTION, __version__
 from .errors import InputError
-from .fem.biot import State, StepSolver
+from .fem.biot import State
 
 
 class Runner:
@@ -62,7 +62,7 @@ class Runner:
         if self.out_dir is not None:
             writer = ResultWriter(self.out_dir, sim.mesh, resume=self.resume,
                                   run_info={"title": model.title, "version": __version__})
-        solver = StepSolver(pb, backend=sim.backend)
+        solver = sim.make_stepper()
         state = State(0.0, np.zeros(pb.disc.n_dofs), pb.disc.n_u)
         info = {"stage": 0, "stage_step": 0, "stage_starts": [], "step": 0, "p_ref": None}
         hist_t, hist_stage = [], []
@@ -75,6 +75,8 @@ class Runner:
             for k, t0 in enumerate(info["stage_starts"]):
                 self._start_stage(k, t0, state.x, placement=True)
             self._restore_placement(arrays)
+            if hasattr(solver, "restore"):
+                solver.restore(arrays)
             hist_t = list(arrays["hist_t"])
             hist_stage = list(info["hist_stage"])
             vals = arrays["hist_vals"]            # (nt, n_probes, n_columns)
@@ -141,8 +143,8 @@ class Runner:
                             info["stage"] = k + 1
                             info["stage_step"] = 0
                         info["hist_stage"] = hist_stage
-                        writer.checkpoint(info["step"], state.t, self._arrays(state, hist_t,
-                                                                              hist), info)
+                        writer.checkpoint(info["step"], state.t,
+                                          self._arrays(state, hist_t, hist, solver), info)
                     if bar is not None:
                         bar.set_description(f"{st.name} | t = {state.t:,.1f} days", refresh=False)
                         bar.update(1)
@@ -160,6 +162,7 @@ class Runner:
         run_info = {"version": __version__, "title": model.title,
                     "elements": sim.mesh.n_elements, "dofs": pb.disc.n_dofs,
                     "steps": info["step"], "factorizations": solver.n_factorizations,
+                    **self._newton_info(solver),
                     "wall_seconds": wall, "caution": CAUTION}
         result = RunResult(np.array(hist_t), hist_stage, probes, lines, run_info, self.out_dir)
         if writer is not None:
@@ -170,12 +173,26 @@ class Runner:
             writer.close()
         return result
 
-    def _arrays(self, state, hist_t, hist) -> dict:
+    @staticmethod
+    def _newton_info(solver) -> dict:
+        if not hasattr(solver, "iteration_counts"):
+            return {}
+        its = solver.iteration_counts()
+        if not its.size:
+            return {}
+        return {"newton_iterations_median": float(np.median(its)),
+                "newton_iterations_max": int(its.max()),
+                "newton_substeps": int(its.size)}
+
+    def _arrays(self, state, hist_t, hist, solver=None) -> dict:
         from .simulation import PROBE_COLUMNS
         pb = self.sim.problem
         names = self.sim.probe_names
         vals = np.array([[hist[n][c] for c in PROBE_COLUMNS] for n in names])  # (np, nc, nt)
         vals = vals.transpose(2, 0, 1) if vals.size else np.zeros((len(hist_t), len(names), 0))
-        return {"x": state.x, "active": pb.active, "placed_strain_nodes": pb.placed_strain_nodes,
-                "f_placed": pb.f_placed, "version": np.array(pb.version),
-                "hist_t": np.array(hist_t), "hist_vals": vals}
+        out = {"x": state.x, "active": pb.active, "placed_strain_nodes": pb.placed_strain_nodes,
+               "f_placed": pb.f_placed, "version": np.array(pb.version),
+               "hist_t": np.array(hist_t), "hist_vals": vals}
+        if solver is not None and hasattr(solver, "state_arrays"):
+            out.update(solver.state_arrays())
+        return out

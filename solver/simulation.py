@@ -60,15 +60,26 @@ class Ramp:
         return self.v[k] + (self.v[k + 1] - self.v[k]) * (t - t0) / (t1 - t0)
 
 
+def cam_clay(m: Material):
+    """The Modified Cam Clay skeleton of a model material."""
+    from .materials.camclay import CamClayMaterial
+    return CamClayMaterial(lambda_=m.lambda_, kappa=m.kappa, e0=m.void_ratio, M=m.M,
+                           phi_cs=m.friction_angle if m.M is None else None,
+                           poisson_ratio=m.poisson_ratio,
+                           permeability_x=m.permeability_x, permeability_y=m.permeability_y,
+                           permeability_change_index=m.permeability_change_index,
+                           biot_coefficient=m.biot_coefficient, storage=m.storage,
+                           unit_weight=m.unit_weight, name=m.name)
+
+
 def fe_material(m: Material, gamma_w: float) -> ElasticMaterial:
-    """The FE skeleton of a model material (linear elastic)."""
+    """The linear skeleton of a model material. For a Modified Cam Clay material it is a
+    stand-in carrying the hydraulic properties (the Newton path uses the real tangent)."""
     kw = dict(permeability_x=m.permeability_x, permeability_y=m.permeability_y,
               biot_coefficient=m.biot_coefficient, storage=m.storage,
               unit_weight=m.unit_weight, name=m.name)
-    if m.model != "linear elastic":
-        raise InputError(f"material model {m.model!r} is not available in this run",
-                         field=f"materials.{m.name}.model", source=None,
-                         fix='use model = "linear elastic".')
+    if m.model == "modified cam clay":
+        return ElasticMaterial(1000.0, m.poisson_ratio, **kw)
     if m.youngs_modulus is not None:
         return ElasticMaterial(m.youngs_modulus, m.poisson_ratio, **kw)
     if m.constrained_modulus is not None:
@@ -123,6 +134,68 @@ class Simulation:
                                    gamma_w=model.water.unit_weight)
         self._initial_state()
         self._probes()
+        self.nonlinear = any(mat.model != "linear elastic"
+                             for mat in self.region_material.values())
+        self.stepper = None
+
+    def make_stepper(self):
+        """The step solver: factor-once linear path, or Newton for materials with state."""
+        if self.stepper is not None:
+            return self.stepper
+        if not self.nonlinear:
+            self.stepper = StepSolver(self.problem, backend=self.backend)
+            return self.stepper
+        from .fem.newton import NewtonStepSolver
+        from .initial import at_rest_coefficient
+        pb, d, mesh = self.problem, self.problem.disc, self.mesh
+        ne, nq = d.detJ.shape
+        x, y = d.xq[..., 0].ravel(), d.xq[..., 1].ravel()
+        g = self._geostatic(x, np.minimum(y, 0.0))
+        stress0 = np.zeros((ne, nq, 4))
+        stress0[..., 0] = -g["horizontal_effective_kPa"].reshape(ne, nq)
+        stress0[..., 1] = -g["vertical_effective_kPa"].reshape(ne, nq)
+        stress0[..., 2] = stress0[..., 0]
+        stress0[~self.active0] = 0.0
+        mats, states = {}, {}
+        for r, m in self.region_material.items():
+            e = np.flatnonzero(mesh.region == mesh.region_id(r))
+            s0 = stress0[e].reshape(-1, 4)
+            if m.model == "modified cam clay":
+                if r in self.lift_regions:
+                    raise InputError("a construction lift cannot be Modified Cam Clay (it is "
+                                     "placed stress-free, where Cam Clay has no stiffness)",
+                                     field=f"materials.{m.name}.model", source=self.model.source,
+                                     fix='give the fill model = "linear elastic".')
+                cc = cam_clay(m)
+                # p' floor of 1 kPa at the ground surface, where Cam Clay has no stiffness.
+                s0 = s0.copy()
+                p = -(s0[:, 0] + s0[:, 1] + s0[:, 2]) / 3
+                s0[p < 1.0, :3] -= (1.0 - p[p < 1.0])[:, None]
+                stress0[e] = s0.reshape(len(e), nq, 4)
+                oed = m.oedometer
+                if oed.preconsolidation_pressure is not None:
+                    pc = cc._pc_at_least_current(s0, cc.preconsolidation_from_vertical(
+                        np.full(len(s0), oed.preconsolidation_pressure)))
+                elif oed.preconsolidation_margin is not None:
+                    pc = cc.preconsolidation_from_margin(s0, oed.preconsolidation_margin)
+                else:
+                    pc = cc.preconsolidation_from_ocr(s0, oed.overconsolidation_ratio or 1.0)
+                mats[r] = cc
+                states[r] = cc.initial_state(s0, pc)
+            else:
+                mats[r] = self.fe_materials[r]
+                states[r] = s0.copy()
+        self.stepper = NewtonStepSolver(pb, mats, states, stress0, backend=self.backend)
+        return self.stepper
+
+    def _stress_change(self, elem: np.ndarray | None = None) -> np.ndarray:
+        """Newton path: mean change of effective stress over each element's quadrature
+        points, (ne or len(elem), 4), tension positive."""
+        st = self.stepper
+        ds = st.stress - st.stress0
+        w = self.problem.disc.dV
+        mean = np.einsum("eqi,eq->ei", ds, w) / w.sum(axis=1)[:, None]
+        return mean if elem is None else mean[elem]
 
     # ------------------------------------------------------------ set-up
     def _region_materials(self):
@@ -182,8 +255,10 @@ class Simulation:
         axi = m.analysis == "axisymmetric"
         for load in m.loads:
             ramp = self.ramps[load.name] = Ramp()
-            self.tractions.append(Traction(f"load_{load.name}", vertical=load.pressure,
-                                           history=ramp))
+            edge = f"load_{load.name}"
+            if m.section.kind == "mesh" and edge not in edges:
+                edge = load.name             # a user mesh: the edge named like the load
+            self.tractions.append(Traction(edge, vertical=load.pressure, history=ramp))
         for ft in m.section.footings:
             ramp = self.ramps[ft.name] = Ramp()
             edge = f"footing_{ft.name}"
@@ -281,10 +356,13 @@ class Simulation:
         uv = np.einsum("na,nai->ni", self._probe_N, u)
         p_nodes = pb.disc.pressure_at_nodes(state.p)
         p = np.einsum("na,na->n", self._probe_N, p_nodes[t])
-        ue = state.u[pb.disc.u_dofs[e]]
-        eps = np.einsum("nij,nj->ni", self._probe_B, ue)
-        eps -= np.einsum("na,nai->ni", self._probe_N, pb.placed_strain_nodes[e])
-        dsig = np.einsum("nij,nj->ni", pb.D[e], eps)           # change, tension positive
+        if self.nonlinear and self.stepper is not None:
+            dsig = self._stress_change(e)
+        else:
+            ue = state.u[pb.disc.u_dofs[e]]
+            eps = np.einsum("nij,nj->ni", self._probe_B, ue)
+            eps -= np.einsum("na,nai->ni", self._probe_N, pb.placed_strain_nodes[e])
+            dsig = np.einsum("nij,nj->ni", pb.D[e], eps)       # change, tension positive
         g = self._probe_init
         return {
             "settlement_m": -uv[:, 1],
@@ -314,7 +392,11 @@ class Simulation:
         """Nodal fields for the field output (user signs)."""
         pb = self.problem
         p = pb.disc.pressure_at_nodes(state.p)
-        dsig = pb.effective_stress_at_nodes(state)
+        if self.nonlinear and self.stepper is not None:
+            dsig = pb.disc.nodal_average(np.repeat(self._stress_change()[:, None], 6, axis=1),
+                                         weights=pb.active)
+        else:
+            dsig = pb.effective_stress_at_nodes(state)
         g = self.initial
         eff = np.column_stack([g["horizontal_effective_kPa"] - dsig[:, 0],
                                g["vertical_effective_kPa"] - dsig[:, 1],

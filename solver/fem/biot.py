@@ -224,11 +224,16 @@ class BiotProblem:
         return State(t, self.expand(y, np.inf), self.disc.n_u)
 
     # ----------------------------------------------------------- loads
-    def external_force(self, t: float) -> np.ndarray:
-        """Full-size force vector at time t (pressure rows zero) and plate forces (n_plates,)."""
+    def external_force(self, t: float, placed: bool = True) -> np.ndarray:
+        """Full-size force vector at time t (pressure rows zero) and plate forces (n_plates,).
+
+        ``placed`` adds the force that keeps placed elements stress-free (the linear path;
+        the incremental Newton path needs none).
+        """
         d = self.disc
         f = np.zeros(d.n_dofs)
-        f[:d.n_u] += self.f_placed
+        if placed:
+            f[:d.n_u] += self.f_placed
         for bf, vec in self._body:
             s = bf.history(t)
             if s:

@@ -1,0 +1,154 @@
+"""FE against hand rows (solver.comparison): ratios, hints, CSV, summary section, texts.
+
+Synthetic curves: a settlement history s(t) = s_f (1 - exp(-t / tau)) stands for either
+method; scaling it in size or in time gives known ratios. The run-folder check solves the
+invented 1D column of tests/test_hand_estimate.py.
+"""
+
+from __future__ import annotations
+
+import csv
+import json
+import math
+from types import SimpleNamespace
+
+import numpy as np
+import pytest
+
+from solver import CAUTION, simulation
+from solver.comparison import (COLUMNS, REASONS, RATIO_TOLERANCE, add_comparison, compare,
+                               compare_run_dir, comparison_section, format_table, hand_report,
+                               write_comparison_csv)
+from solver.hand.estimate import hand_estimate
+from solver.model import dump_toml
+
+from test_hand_estimate import column_model, embankment_model
+
+T = np.linspace(0.0, 1000.0, 2001)
+
+
+def curve(final=0.5, tau=100.0, t=T):
+    return final * (1.0 - np.exp(-t / tau))
+
+
+def fake_hand(**probes):
+    """A stand-in HandEstimate: probes name -> (final settlement, tau, largest u)."""
+    ps = {}
+    for name, (final, tau, umax) in probes.items():
+        ps[name] = SimpleNamespace(name=name, x_m=0.0, y_m=-1.0, probe_depth_m=1.0, time_days=T,
+                                   settlement_m=curve(final, tau), final_settlement_m=final,
+                                   max_excess_pore_pressure_kPa=umax)
+    return SimpleNamespace(probes=ps, end_days=float(T[-1]))
+
+
+def fe_record(final, tau, umax):
+    t = T[1:]
+    return {"time_days": t, "settlement_m": curve(final, tau, t),
+            "excess_pore_pressure_kPa": umax * np.exp(-t / tau)}
+
+
+def test_ratios_and_hints_on_synthetic_curves():
+    hand = fake_hand(a=(0.5, 100.0, 40.0), b=(0.5, 100.0, 40.0))
+    fe = {"a": fe_record(0.75, 40.0, 30.0),      # 1.5 x settlement, 2.5 x faster, 0.75 x u
+          "b": fe_record(0.55, 110.0, 44.0)}     # all within 20 %
+    rows = {r["probe"]: r for r in compare(hand, fe, None)}
+    a = rows["a"]
+    end = T[-1]
+    assert a["fe_final_time_days"] == pytest.approx(end)
+    assert a["settlement_ratio_fe_to_hand"] == pytest.approx(curve(0.75, 40.0, end) / curve(0.5, 100.0, end))
+    # t50 of s_f (1 - exp(-t/tau)) relative to its end value: tau ln 2 (nearly: the end is < s_f)
+    assert a["hand_t50_days"] == pytest.approx(100.0 * math.log(2), rel=2e-3)
+    assert a["t50_ratio_fe_to_hand"] == pytest.approx(0.4, rel=5e-3)
+    assert a["t90_ratio_fe_to_hand"] == pytest.approx(0.4, rel=5e-3)
+    assert a["pore_pressure_ratio_fe_to_hand"] == pytest.approx(30.0 * math.exp(-T[1] / 40.0) / 40.0)
+    assert "settlement: FE settles more" in a["hints"]
+    assert "t90: FE faster: lateral drainage" in a["hints"]
+    assert "pore pressure: FE lower" in a["hints"]
+    b = rows["b"]
+    assert abs(b["settlement_ratio_fe_to_hand"] - 1) <= RATIO_TOLERANCE
+    assert b["hints"] == ""
+
+
+def test_slower_fe_and_missing_values():
+    hand = fake_hand(a=(0.5, 100.0, float("nan")))
+    rows = compare(hand, {"a": fe_record(0.3, 300.0, 10.0)}, None)
+    r = rows[0]
+    assert "t90: FE slower" in r["hints"] and "settlement: FE settles less" in r["hints"]
+    assert r["hand_max_excess_pore_pressure_kPa"] is None          # drained surface: no hand value
+    assert r["pore_pressure_ratio_fe_to_hand"] is None
+    # a probe the run does not have: FE columns empty, hand columns filled
+    r = compare(fake_hand(c=(0.5, 100.0, 1.0)), {}, None)[0]
+    assert r["fe_final_settlement_m"] is None and r["settlement_ratio_fe_to_hand"] is None
+    assert r["hand_final_settlement_m"] == pytest.approx(curve(0.5, 100.0, T[-1]))
+
+
+def test_summary_values_stand_in_for_missing_arrays():
+    hand = fake_hand(a=(0.5, 100.0, 40.0))
+    summary = {"probes": {"a": {"final_time_days": 500.0, "final_settlement_m": 0.5,
+                                "time_to_50_percent_settlement_days": 50.0,
+                                "time_to_90_percent_settlement_days": 200.0,
+                                "largest_excess_pore_pressure_kPa": 40.0}}}
+    r = compare(hand, None, summary)[0]
+    assert r["fe_final_time_days"] == 500.0
+    assert r["hand_final_settlement_m"] == pytest.approx(curve(0.5, 100.0, 500.0), rel=1e-6)
+    assert r["pore_pressure_ratio_fe_to_hand"] == pytest.approx(1.0)
+
+
+def test_csv_has_unit_columns_and_reads_back(tmp_path):
+    rows = compare(fake_hand(a=(0.5, 100.0, 40.0)), {"a": fe_record(0.75, 40.0, 30.0)}, None)
+    path = write_comparison_csv(rows, tmp_path / "comparison.csv")
+    with open(path, newline="") as fh:
+        got = list(csv.reader(fh))
+    assert tuple(got[0]) == COLUMNS
+    for c in COLUMNS:
+        assert c in ("probe", "hints") or c.endswith(("_m", "_days", "_kPa", "_to_hand")), c
+    assert float(got[1][COLUMNS.index("settlement_ratio_fe_to_hand")]) == pytest.approx(
+        rows[0]["settlement_ratio_fe_to_hand"], rel=1e-5)
+
+
+def test_summary_section_is_json_with_reasons_and_caution():
+    rows = compare(fake_hand(a=(0.5, 100.0, float("nan"))), {"a": fe_record(0.75, 40.0, 30.0)}, None)
+    sec = comparison_section(rows)
+    text = json.dumps(sec, allow_nan=False)
+    assert "a" in sec["probes"] and sec["reasons"] == REASONS and sec["caution"] == CAUTION
+    assert "probe" not in sec["probes"]["a"]
+    assert json.loads(text)["probes"]["a"]["hand_max_excess_pore_pressure_kPa"] is None
+    table = format_table(rows)
+    assert REASONS in table and CAUTION in table and "FE faster: lateral drainage" in table
+
+
+def test_hand_report_lists_every_probe_the_split_and_the_caution():
+    h = hand_estimate(embankment_model())
+    text = hand_report(h)
+    for name in h.probes:
+        assert f"probe {name}" in text
+    assert "immediate" in text and "consolidation" in text and "secondary" in text
+    assert "t50" in text and "t90" in text and "stress increase used" in text
+    assert "Bjerrum 1963" in text
+    assert text.rstrip().endswith(CAUTION)
+
+
+def test_run_folder_comparison(tmp_path):
+    # the invented 1D column, written as a run folder, compared again from the folder
+    m = column_model(wait=100.0)
+    out = tmp_path / "run"
+    result = simulation.run(m, out, model_text=dump_toml(m))
+    table = compare_run_dir(out)
+    assert "top" in table and "mid" in table and CAUTION in table
+    rows, message = add_comparison(m, result.probes, out)
+    assert message is None
+    top = {r["probe"]: r for r in rows}["top"]
+    assert top["settlement_ratio_fe_to_hand"] == pytest.approx(1.0, abs=0.01)
+    assert top["t90_ratio_fe_to_hand"] == pytest.approx(1.0, abs=0.02)
+    assert (out / "comparison.csv").exists()
+    summary = json.loads((out / "summary.json").read_text())
+    assert "top" in summary["comparison"]["probes"]
+
+
+def test_run_goes_on_when_the_hand_method_cannot(tmp_path):
+    m = column_model()
+    m.materials["clay"].oedometer.compression_index = 0.5     # no Cr, e0: the hand path fails
+    (tmp_path / "summary.json").write_text(json.dumps({"run": {}, "probes": {}}))
+    rows, message = add_comparison(m, {}, tmp_path)
+    assert rows is None and "recompression_index" in message
+    assert "skipped" in json.loads((tmp_path / "summary.json").read_text())["comparison"]
