@@ -110,12 +110,32 @@ def _run(args) -> int:
         print(f"interrupted: finished steps are kept in {out}/; continue with "
               f"'poroplane run {args.model} -o {out} --resume'", file=sys.stderr)
         return 130
+    from .comparison import add_comparison, format_table
+    rows, message = add_comparison(model, result.probes, out)
+    if rows is None:
+        print(f"warning: no hand-method comparison: {message}", file=sys.stderr)
+    else:
+        print(format_table(rows))
     print(f"results in {out.resolve()}: results.xdmf (ParaView), probes.csv, lines.csv, "
-          f"summary.json ({result.info['steps']} steps, {result.info['wall_seconds']:.1f} s)")
+          f"summary.json, comparison.csv ({result.info['steps']} steps, "
+          f"{result.info['wall_seconds']:.1f} s)")
     if args.mesh_study:
         from .mesh_study import mesh_study
         print(mesh_study(model, sim, result, backend=args.linear_solver))
     print(CAUTION)
+    return 0
+
+
+def _hand(args) -> int:
+    from .comparison import hand_report
+    from .hand.estimate import hand_estimate
+    print(hand_report(hand_estimate(_load(args.model))))
+    return 0
+
+
+def _compare(args) -> int:
+    from .comparison import compare_run_dir
+    print(compare_run_dir(Path(args.results)))
     return 0
 
 
@@ -152,6 +172,14 @@ def build_parser() -> argparse.ArgumentParser:
     r.add_argument("--linear-solver", default=None, help="sparse direct solver backend")
     r.add_argument("--quiet", action="store_true", help="no progress bar")
     r.set_defaults(func=_run)
+
+    h = sub.add_parser("hand", help="the hand method alone: settlement, t50, t90 per probe")
+    h.add_argument("model", help="model file (.toml)")
+    h.set_defaults(func=_hand)
+
+    cp = sub.add_parser("compare", help="hand method against the finite elements of a run")
+    cp.add_argument("results", help="folder written by 'poroplane run'")
+    cp.set_defaults(func=_compare)
 
     b = sub.add_parser("bench", help="time assembly, factorization and stepping (a benchmark)")
     b.add_argument("--elements", type=int, default=20_000, help="target number of triangles")

@@ -616,7 +616,8 @@ def _pardiso_release(entry, pt, iparm, n) -> None:
                   empty_f, empty_f)
 
 
-def factor(A, backend: str | None = None, ordering: Ordering | None = None) -> Factor:
+def factor(A, backend: str | None = None, ordering: Ordering | None = None,
+           check: bool = True) -> Factor:
     """Factor the symmetric (quasi-definite) matrix ``A`` for repeated solves.
 
     Parameters
@@ -627,6 +628,9 @@ def factor(A, backend: str | None = None, ordering: Ordering | None = None) -> F
         by ``"superlu-nd"``; None: it computes :meth:`Ordering.from_matrix` here (its time is in
         ``factor_seconds``). ``"pardiso"`` orders internally and ``"superlu"`` uses COLAMD; both
         ignore it.
+    check : check the backward error of the first solve and fall back to a pivoting
+        factorization when it is poor. Newton iterations pass False: an inexact step only
+        slows their convergence, which their own residual check watches.
 
     Returns
     -------
@@ -656,10 +660,13 @@ def factor(A, backend: str | None = None, ordering: Ordering | None = None) -> F
         raise InputError(f"ordering has {ordering.n} dofs; the matrix has {A.shape[0]}.",
                          field="ordering", fix="compute the Ordering for this sparsity pattern.")
     if backend == "superlu-nd":
-        return _SuperLUNDFactor(A, ordering)
-    if backend == "superlu":
-        return _SuperLUFactor(A)
-    return _PardisoFactor(A)
+        fac = _SuperLUNDFactor(A, ordering)
+    elif backend == "superlu":
+        fac = _SuperLUFactor(A)
+    else:
+        fac = _PardisoFactor(A)
+    fac._checked = not check
+    return fac
 
 
 # ----------------------------------------------------------------------------------------------
