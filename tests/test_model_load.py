@@ -75,7 +75,7 @@ def test_example_loads_with_units_converted(example):
     assert [la.name for la in m.layers] == ["crust", "upper_clay", "lower_clay", "sand"]
     clay = m.materials["upper_clay"]
     assert clay.permeability_x == clay.permeability_y == pytest.approx(8.64e-5)
-    assert clay.youngs_modulus == 1500.0 and clay.unit_weight == 16.0
+    assert clay.youngs_modulus == 600.0 and clay.unit_weight == 16.0     # "0.6 MPa"
     assert clay.oedometer.preconsolidation_margin == 20.0
     assert m.materials["crust"].permeability_x == pytest.approx(2 * m.materials[
         "crust"].permeability_y)
