@@ -11,12 +11,18 @@ from . import CAUTION, __version__
 from .errors import PoroplaneError
 
 EXIT_BAD_INPUT = 2
+CASES = ("terzaghi", "mandel", "axisymmetric", "strip_load", "convergence")
 
 
 def _validate(args) -> int:
-    from solver.validation import run_all
+    from solver.validation import CASE_MODULES, run_all
+    unknown = [c for c in (args.case or []) if c not in CASE_MODULES]
+    if unknown:
+        from .errors import InputError
+        raise InputError(f"unknown validation case {unknown[0]!r}", field="--case",
+                         fix=f"use one of {', '.join(CASE_MODULES)}.")
     out = Path(args.out)
-    checks, seconds = run_all(quick=args.quick, out_dir=out)
+    checks, seconds = run_all(quick=args.quick, out_dir=out, names=args.case or None)
     if args.json:
         print(json.dumps([c.as_dict() for c in checks], indent=1))
     else:
@@ -151,6 +157,8 @@ def build_parser() -> argparse.ArgumentParser:
     v.add_argument("--quick", action="store_true", help="coarse meshes (about a minute)")
     v.add_argument("--json", action="store_true", help="print the checks as JSON")
     v.add_argument("--out", default="validation-results", help="folder for the comparison plots")
+    v.add_argument("--case", action="append", metavar="NAME",
+                   help="run only this case (repeatable): " + ", ".join(CASES))
     v.set_defaults(func=_validate)
 
     c = sub.add_parser("check", help="read, check and mesh a model file; solve nothing")
