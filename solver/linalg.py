@@ -443,7 +443,7 @@ class _SuperLUFactor(Factor):
 class _SuperLUNDFactor(Factor):
     """SuperLU on P A P^T, nested dissection, natural columns, diagonal pivots only."""
 
-    def __init__(self, A: sp.csr_matrix, ordering: Ordering | None):
+    def __init__(self, A: sp.csr_matrix, ordering: Ordering | None, symmetric: bool = True):
         super().__init__(A, "superlu-nd")
         t0 = time.perf_counter()
         if ordering is None:
@@ -453,7 +453,9 @@ class _SuperLUNDFactor(Factor):
         iperm[perm] = np.arange(perm.size)
         self._perm, self._iperm = perm, iperm
         try:
-            self._lu = spla.splu(_permuted_symmetric_csc(A, perm, iperm), **_SUPERLU_NO_PIVOT)
+            Ap = (_permuted_symmetric_csc(A, perm, iperm) if symmetric
+                  else A[perm][:, perm].tocsc())
+            self._lu = spla.splu(Ap, **_SUPERLU_NO_PIVOT)
             self.factor_nnz = self._lu.L.nnz + self._lu.U.nnz
         except RuntimeError:                # exactly zero pivot column: pivot after all
             self._fall_back()
@@ -617,7 +619,7 @@ def _pardiso_release(entry, pt, iparm, n) -> None:
 
 
 def factor(A, backend: str | None = None, ordering: Ordering | None = None,
-           check: bool = True) -> Factor:
+           check: bool = True, symmetric: bool = True) -> Factor:
     """Factor the symmetric (quasi-definite) matrix ``A`` for repeated solves.
 
     Parameters
@@ -628,6 +630,9 @@ def factor(A, backend: str | None = None, ordering: Ordering | None = None,
         by ``"superlu-nd"``; None: it computes :meth:`Ordering.from_matrix` here (its time is in
         ``factor_seconds``). ``"pardiso"`` orders internally and ``"superlu"`` uses COLAMD; both
         ignore it.
+    symmetric : False for a matrix with a symmetric pattern but unsymmetric values (the
+        Newton Jacobian with the Cam Clay tangent); "superlu-nd" then permutes it in full
+        instead of reading its rows as columns, and "pardiso" is refused.
     check : check the backward error of the first solve and fall back to a pivoting
         factorization when it is poor. Newton iterations pass False: an inexact step only
         slows their convergence, which their own residual check watches.
@@ -659,8 +664,11 @@ def factor(A, backend: str | None = None, ordering: Ordering | None = None,
     if ordering is not None and ordering.n != A.shape[0]:
         raise InputError(f"ordering has {ordering.n} dofs; the matrix has {A.shape[0]}.",
                          field="ordering", fix="compute the Ordering for this sparsity pattern.")
+    if backend == "pardiso" and not symmetric:
+        raise InputError("backend 'pardiso' is set up for symmetric matrices only",
+                         field="backend", fix="use 'superlu-nd' or 'superlu'.")
     if backend == "superlu-nd":
-        fac = _SuperLUNDFactor(A, ordering)
+        fac = _SuperLUNDFactor(A, ordering, symmetric)
     elif backend == "superlu":
         fac = _SuperLUFactor(A)
     else:

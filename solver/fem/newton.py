@@ -196,7 +196,7 @@ class NewtonStepSolver:
             A = d.pattern.assemble(blocks)
             order = pb.ordering(dt) if self.backend == "superlu-nd" else None
             fac = linalg.factor(c.reduce(A.data), backend=self.backend, ordering=order,
-                                check=False)
+                                check=False, symmetric=False)
             self.factor_seconds += fac.factor_seconds
             self.n_factorizations += 1
             dy = fac.solve(r)
