@@ -13,7 +13,7 @@ from typing import Callable, Sequence
 import numpy as np
 
 from .errors import MeshError
-from .mesh import Mesh
+from .mesh import Mesh, assemble_mesh
 
 SizeFunction = Callable[[float, float], float]
 
@@ -67,24 +67,7 @@ def extract_mesh(gmsh, source: str | None = None) -> Mesh:
     if not tri_blocks:
         raise MeshError("no named surface was meshed", source=source,
                         fix="add a physical surface with a name.")
-    tri = np.concatenate(tri_blocks)
-    reg = np.concatenate(reg_blocks)
-    used = np.unique(tri)
-    renum = np.full(len(pts), -1, dtype=np.int64)
-    renum[used] = np.arange(used.size)
-    tri = renum[tri]
-    p = pts[used][tri[:, :3]]
-    d1, d2 = p[:, 1] - p[:, 0], p[:, 2] - p[:, 0]
-    cw = (d1[:, 0] * d2[:, 1] - d1[:, 1] * d2[:, 0]) < 0
-    tri[cw] = tri[cw][:, [0, 2, 1, 5, 4, 3]]
-    edge_arr = {}
-    for k, v in edges.items():
-        seg = renum[np.concatenate(v)]
-        if (seg < 0).any():
-            raise MeshError(f"edge {k!r} has nodes that belong to no triangle", source=source,
-                            fix="put named edges on the boundary of meshed surfaces.")
-        edge_arr[k] = seg
-    return Mesh(pts[used], tri, reg, region_names, edge_arr, source=source)
+    return assemble_mesh(pts, tri_blocks, reg_blocks, region_names, edges, source)
 
 
 def _generate(gmsh, size: SizeFunction | float, source=None, algorithm: int = 6) -> Mesh:

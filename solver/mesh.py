@@ -344,25 +344,34 @@ def mesh_from_meshio(m, source: str | None = None) -> Mesh:
     if not tri_blocks:
         raise MeshError("the mesh has no 6-node triangles in a named surface", source=where,
                         fix="mesh the surfaces with second-order triangles and name them.")
+    return assemble_mesh(np.asarray(m.points)[:, :2], tri_blocks, reg_blocks, region_names,
+                         edges, source)
+
+
+def assemble_mesh(points: np.ndarray, tri_blocks: list, reg_blocks: list,
+                  region_names: list[str], edges: dict[str, list], source: str | None) -> Mesh:
+    """A Mesh from blocks of 6-node triangles and named line3 segments read from a file.
+
+    Keeps only the nodes the triangles use, numbered compactly, and turns every triangle
+    counter-clockwise (Gmsh keeps the orientation of the surface, which a user's .geo may
+    have flipped).
+    """
     tri = np.concatenate(tri_blocks)
     reg = np.concatenate(reg_blocks)
-    pts = np.asarray(m.points)[:, :2]
-    # Keep only the nodes used by triangles, numbered compactly.
     used = np.unique(tri)
-    renum = np.full(len(pts), -1, dtype=np.int64)
+    renum = np.full(len(points), -1, dtype=np.int64)
     renum[used] = np.arange(used.size)
     tri = renum[tri]
     edge_arr = {}
     for k, v in edges.items():
         seg = renum[np.concatenate(v)]
         if (seg < 0).any():
-            raise MeshError(f"edge {k!r} has nodes that belong to no triangle", source=where,
+            raise MeshError(f"edge {k!r} has nodes that belong to no triangle",
+                            source=source or "mesh",
                             fix="put named edges on the boundary of meshed surfaces.")
         edge_arr[k] = seg
-    # Orient every triangle counter-clockwise (Gmsh keeps the surface orientation, which a
-    # user's .geo may have flipped).
-    p = pts[used][tri[:, :3]]
+    p = points[used][tri[:, :3]]
     d1, d2 = p[:, 1] - p[:, 0], p[:, 2] - p[:, 0]
     cw = (d1[:, 0] * d2[:, 1] - d1[:, 1] * d2[:, 0]) < 0
     tri[cw] = tri[cw][:, [0, 2, 1, 5, 4, 3]]
-    return Mesh(pts[used], tri, reg, region_names, edge_arr, source=source)
+    return Mesh(points[used], tri, reg, region_names, edge_arr, source=source)

@@ -25,9 +25,10 @@ from .errors import InputError, SolverError
 from .fem.biot import (BiotProblem, BodyForce, Fixity, RigidPlate, State, StepSolver,
                        Traction)
 from .fem import element
+from .fem.assembly import strain_matrix
 from .materials.elastic import ElasticMaterial
 from .mesh import Mesh
-from .model import Material, Model
+from .model import Material, Model, check_mesh_names
 from .stepping import level_schedule
 
 
@@ -123,6 +124,7 @@ class Simulation:
         from . import sections
         self.model = model
         self.mesh = mesh if mesh is not None else sections.build_mesh(model)
+        check_mesh_names(model, self.mesh)   # a user mesh has every region and edge named
         self.backend = backend
         self._region_materials()
         self._conditions()
@@ -333,15 +335,10 @@ class Simulation:
         x = mesh.points[mesh.triangles[elem]]                # (n, 6, 2)
         J = np.einsum("nai,naj->nij", x, dN_ref)
         dN = np.einsum("naj,nji->nai", dN_ref, np.linalg.inv(J))
-        B = np.zeros((len(elem), 4, 12))
-        B[:, 0, 0::2] = dN[..., 0]
-        B[:, 1, 1::2] = dN[..., 1]
-        B[:, 3, 0::2] = dN[..., 1]
-        B[:, 3, 1::2] = dN[..., 0]
+        r = None
         if self.model.analysis == "axisymmetric":
-            r = np.einsum("na,na->n", N, x[..., 0])
-            B[:, 2, 0::2] = N / np.maximum(r, 1e-12)[:, None]
-        return B
+            r = np.maximum(np.einsum("na,na->n", N, x[..., 0]), 1e-12)
+        return strain_matrix(N, dN, r)
 
     # ---------------------------------------------------------- outputs
     def probe_values(self, state: State) -> dict[str, np.ndarray]:

@@ -141,6 +141,22 @@ class NodalPattern:
         return sp.csr_matrix((data, self.indices, self.indptr), shape=self.shape)
 
 
+def strain_matrix(N: np.ndarray, dN: np.ndarray, radius: np.ndarray | None = None) -> np.ndarray:
+    """B (..., 4, 12) from P2 values N (..., 6) and physical gradients dN (..., 6, 2).
+
+    Rows [xx, yy, zz, xy]; with ``radius`` (...) the zz row is the hoop strain u_r / r
+    (axisymmetry), else zero (plane strain).
+    """
+    B = np.zeros(dN.shape[:-2] + (4, 12))
+    B[..., 0, 0::2] = dN[..., 0]
+    B[..., 1, 1::2] = dN[..., 1]
+    B[..., 3, 0::2] = dN[..., 1]
+    B[..., 3, 1::2] = dN[..., 0]
+    if radius is not None:
+        B[..., 2, 0::2] = N / radius[..., None]
+    return B
+
+
 @dataclass
 class Discretisation:
     """P2 displacement / P1 pressure fields on a mesh, with quadrature-point geometry."""
@@ -239,16 +255,8 @@ class Discretisation:
     @cached_property
     def B(self) -> np.ndarray:
         """Strain-displacement matrices (ne, nq, 4, 12), rows [xx, yy, zz, xy]."""
-        ne, nq = self.detJ.shape
-        B = np.zeros((ne, nq, 4, 12))
-        dx, dy = self.dN2[..., 0], self.dN2[..., 1]
-        B[:, :, 0, 0::2] = dx
-        B[:, :, 1, 1::2] = dy
-        B[:, :, 3, 0::2] = dy
-        B[:, :, 3, 1::2] = dx
-        if self.axisymmetric:
-            B[:, :, 2, 0::2] = self.N2[None] / self.xq[..., 0, None]
-        return B
+        N = np.broadcast_to(self.N2, self.dN2.shape[:-1])
+        return strain_matrix(N, self.dN2, self.xq[..., 0] if self.axisymmetric else None)
 
     def strain(self, u: np.ndarray) -> np.ndarray:
         """Strain (ne, nq, 4) at quadrature points from the displacement vector (n_u,)."""
@@ -337,12 +345,7 @@ class Discretisation:
         x = self.mesh.points[self.mesh.triangles]
         J = np.einsum("eai,qaj->eqij", x, dN_ref)
         dN = np.einsum("qaj,eqji->eqai", dN_ref, np.linalg.inv(J))
-        ne = len(x)
-        B = np.zeros((ne, 6, 4, 12))
-        B[:, :, 0, 0::2] = dN[..., 0]
-        B[:, :, 1, 1::2] = dN[..., 1]
-        B[:, :, 3, 0::2] = dN[..., 1]
-        B[:, :, 3, 1::2] = dN[..., 0]
+        B = strain_matrix(np.broadcast_to(N, dN.shape[:-1]), dN)
         if self.axisymmetric:
             r = x[..., 0]                                   # (ne, 6): radius of each node
             with np.errstate(divide="ignore", invalid="ignore"):
