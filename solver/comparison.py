@@ -34,6 +34,7 @@ import numpy as np
 
 from . import CAUTION
 from .errors import InputError, PoroplaneError
+from .results import time_to_fraction
 
 __all__ = [
     "RATIO_TOLERANCE",
@@ -112,20 +113,6 @@ def _ratio(fe: float | None, hand: float | None) -> float | None:
     return fe / hand
 
 
-def _time_to_fraction(t: np.ndarray, s: np.ndarray, reference: float, fraction: float
-                      ) -> float | None:
-    """First time the curve reaches ``fraction`` of ``reference``, linear between samples."""
-    if reference is None or not math.isfinite(reference) or reference == 0.0:
-        return None
-    r = s / reference
-    hit = np.flatnonzero(r >= fraction)
-    if hit.size == 0:
-        return None
-    i = int(hit[0])
-    if i == 0:
-        return float(t[0])
-    t0, t1, r0, r1 = t[i - 1], t[i], r[i - 1], r[i]
-    return float(t0 + (fraction - r0) / (r1 - r0) * (t1 - t0))
 
 
 def _fe_values(arrays: Mapping[str, Any] | None, summary: Mapping[str, Any] | None) -> dict:
@@ -139,8 +126,8 @@ def _fe_values(arrays: Mapping[str, Any] | None, summary: Mapping[str, Any] | No
         t, s = t[ok][order], s[ok][order]
         if t.size:
             out["time"], out["final"] = float(t[-1]), float(s[-1])
-            out["t50"] = _time_to_fraction(t, s, s[-1], 0.5)
-            out["t90"] = _time_to_fraction(t, s, s[-1], 0.9)
+            out["t50"] = time_to_fraction(t, s, s[-1], 0.5)
+            out["t90"] = time_to_fraction(t, s, s[-1], 0.9)
         u = np.asarray(arrays.get("excess_pore_pressure_kPa", []), dtype=float)
         u = u[np.isfinite(u)]
         if u.size:
@@ -199,8 +186,8 @@ def compare(hand, fe_probes: Mapping[str, Mapping[str, Any]] | None,
         hand_end = float(np.interp(t_end, th, sh))
         th_c = np.unique(np.append(th[keep], t_end))
         sh_c = np.interp(th_c, th, sh)
-        hand_t50 = _time_to_fraction(th_c, sh_c, hand_end, 0.5)
-        hand_t90 = _time_to_fraction(th_c, sh_c, hand_end, 0.9)
+        hand_t50 = time_to_fraction(th_c, sh_c, hand_end, 0.5)
+        hand_t90 = time_to_fraction(th_c, sh_c, hand_end, 0.9)
         hand_u = _num(p.max_excess_pore_pressure_kPa)
         row = {
             "probe": name, "x_m": float(p.x_m), "y_m": float(p.y_m), "depth_m": float(p.probe_depth_m),

@@ -848,9 +848,9 @@ def read_fields(out_dir: str | Path, names: Sequence[str] | None = None) -> Fiel
 
 
 # ============================================================================== summaries
-def _time_to_fraction(t: np.ndarray, s: np.ndarray, final: float, fraction: float):
+def time_to_fraction(t: np.ndarray, s: np.ndarray, final: float | None, fraction: float):
     """First time the settlement reaches ``fraction`` of ``final``, linearly interpolated."""
-    if not math.isfinite(final) or final == 0.0:
+    if final is None or not math.isfinite(final) or final == 0.0:
         return None
     r = s / final
     hit = np.flatnonzero(r >= fraction)
@@ -892,8 +892,8 @@ def probe_summary(probes: dict[str, dict[str, np.ndarray]]) -> dict[str, dict[st
         res: dict[str, Any] = {
             "final_time_days": float(ts[-1]) if ts.size else None,
             "final_settlement_m": final if math.isfinite(final) else None,
-            "time_to_50_percent_settlement_days": _time_to_fraction(ts, ss, final, 0.5),
-            "time_to_90_percent_settlement_days": _time_to_fraction(ts, ss, final, 0.9),
+            "time_to_50_percent_settlement_days": time_to_fraction(ts, ss, final, 0.5),
+            "time_to_90_percent_settlement_days": time_to_fraction(ts, ss, final, 0.9),
             "largest_excess_pore_pressure_kPa": None,
             "time_of_largest_excess_pore_pressure_days": None,
             "stage_of_largest_excess_pore_pressure": None,
