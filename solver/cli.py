@@ -102,8 +102,11 @@ def _mesh(args) -> int:
 def _run(args) -> int:
     from .simulation import Simulation
     from .model import domain_warnings
+    from .model import dump_toml
     model = _load(args.model)
-    text = Path(args.model).read_text()
+    # The model as read (units converted, paths resolved), so the run folder stands alone.
+    text = (f"# The model as poroplane read it from {Path(args.model).resolve()}\n"
+            "# (quantities in the default units, paths absolute).\n" + dump_toml(model))
     for w in domain_warnings(model):
         print(f"warning: {w}", file=sys.stderr)
     sim = Simulation(model, backend=args.linear_solver)
@@ -128,6 +131,28 @@ def _run(args) -> int:
     if args.mesh_study:
         from .mesh_study import mesh_study
         print(mesh_study(model, sim, result, backend=args.linear_solver))
+    if not args.no_plots:
+        from .plots import plot_command
+        paths = plot_command(out)
+        print(f"{len(paths)} plots and pictures in {(out / 'plots').resolve()}; "
+              f"'poroplane report {out}' writes the report")
+    print(CAUTION)
+    return 0
+
+
+def _plot(args) -> int:
+    from .plots import plot_command
+    paths = plot_command(Path(args.results), times=args.times)
+    for p in paths:
+        print(p)
+    print(CAUTION)
+    return 0
+
+
+def _report(args) -> int:
+    from .report import report_command
+    path = report_command(Path(args.results))
+    print(f"wrote {path.resolve()} (self-contained; open it in a browser)")
     print(CAUTION)
     return 0
 
@@ -179,7 +204,19 @@ def build_parser() -> argparse.ArgumentParser:
                    help="also solve on a uniformly refined mesh and report the change")
     r.add_argument("--linear-solver", default=None, help="sparse direct solver backend")
     r.add_argument("--quiet", action="store_true", help="no progress bar")
+    r.add_argument("--no-plots", action="store_true",
+                   help="skip the default plots and pictures after the run")
     r.set_defaults(func=_run)
+
+    pl = sub.add_parser("plot", help="plots and section pictures of a run (PNG)")
+    pl.add_argument("results", help="folder written by 'poroplane run'")
+    pl.add_argument("--times", type=float, nargs="+", metavar="DAYS",
+                    help="times (days) for isochrones, troughs and pictures")
+    pl.set_defaults(func=_plot)
+
+    rp = sub.add_parser("report", help="one self-contained HTML report of a run")
+    rp.add_argument("results", help="folder written by 'poroplane run'")
+    rp.set_defaults(func=_report)
 
     h = sub.add_parser("hand", help="the hand method alone: settlement, t50, t90 per probe")
     h.add_argument("model", help="model file (.toml)")

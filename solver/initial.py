@@ -94,51 +94,60 @@ def geostatic_stress(column: LayerColumn, water_table: float, gamma_w: float,
             "horizontal_effective_kPa": k0 * sv_eff}
 
 
-def geostatic_stress_on_mesh(mesh, unit_weights: dict[str, tuple[float, float, float]],
-                             water_table: float, gamma_w: float, x: np.ndarray, y: np.ndarray,
-                             columns: int = 120, rows: int = 240) -> dict[str, np.ndarray]:
+class MeshOverburden:
     """Initial state on a user mesh: the overburden integrated down vertical columns.
 
     ``unit_weights`` maps the regions present at the start to (unit weight, saturated unit
     weight, K0); other regions (placed later) weigh nothing. The ground at a column is the
-    highest point of a starting region there. The integral is taken on a raster of
-    ``columns`` x ``rows`` samples over the mesh's bounding box (midpoint rule) and
-    interpolated linearly to the points: an approximation of the order of the raster spacing
-    times the unit weight, stated in docs/model.md.
+    highest point of a starting region there. The integral is taken once on a raster of
+    ``columns`` x ``rows`` samples over the mesh's bounding box (midpoint rule); calling the
+    object interpolates it linearly to points: an approximation of the order of the raster
+    spacing times the unit weight, stated in docs/model.md.
     """
-    lo, hi = mesh.points.min(axis=0), mesh.points.max(axis=0)
-    xs = np.linspace(lo[0], hi[0], columns)
-    dy = (hi[1] - lo[1]) / rows
-    ys = hi[1] - dy * (np.arange(rows) + 0.5)                  # cell midpoints, top down
-    gx, gy = np.meshgrid(xs, ys, indexing="ij")                  # (columns, rows)
-    elem, _ = mesh.locate(np.column_stack([gx.ravel(), gy.ravel()]))
-    names = mesh.region_names
-    g_dry = np.array([unit_weights.get(n, (0.0, 0.0, 0.0))[0] for n in names] + [0.0])
-    g_sat = np.array([unit_weights.get(n, (0.0, 0.0, 0.0))[1] for n in names] + [0.0])
-    k0s = np.array([unit_weights.get(n, (0.0, 0.0, 0.5))[2] for n in names] + [0.5])
-    starting = np.array([n in unit_weights for n in names] + [False])
-    reg = np.where(elem >= 0, mesh.region[np.maximum(elem, 0)], len(names)).reshape(gx.shape)
-    inside = starting[reg]
-    wet = gy < water_table
-    gamma = np.where(wet, g_sat[reg], g_dry[reg]) * inside
-    # total vertical stress at the bottom of each cell, then at the points
-    sv_cells = np.cumsum(gamma * dy, axis=1)
-    ground = np.where(inside.any(axis=1), hi[1] - dy * inside.argmax(axis=1), lo[1])
-    sv_cells += gamma_w * np.maximum(water_table - ground, 0.0)[:, None]
-    # sv at depth k * dy below the box top, k = 0..rows; linear between raster nodes
-    svk = np.concatenate([np.zeros((columns, 1)), sv_cells], axis=1)
-    x = np.asarray(x, float)
-    y = np.asarray(y, float)
-    fx = np.clip(np.interp(x, xs, np.arange(columns)), 0, columns - 1)
-    fy = np.clip((hi[1] - y) / dy, 0, rows)
-    i0 = np.minimum(np.floor(fx).astype(int), columns - 2) if columns > 1 else np.zeros_like(x, int)
-    j0 = np.minimum(np.floor(fy).astype(int), rows - 1)
-    ax, ay = fx - i0, fy - j0
-    sv = ((1 - ax) * ((1 - ay) * svk[i0, j0] + ay * svk[i0, j0 + 1])
-          + ax * ((1 - ay) * svk[i0 + 1, j0] + ay * svk[i0 + 1, j0 + 1]))
-    u0 = gamma_w * np.maximum(water_table - y, 0.0)
-    elem_p, _ = mesh.locate(np.column_stack([x, y]))
-    k0 = k0s[np.where(elem_p >= 0, mesh.region[np.maximum(elem_p, 0)], len(names))]
-    sv_eff = sv - u0
-    return {"hydrostatic_kPa": u0, "vertical_effective_kPa": sv_eff,
-            "horizontal_effective_kPa": k0 * sv_eff}
+
+    def __init__(self, mesh, unit_weights: dict[str, tuple[float, float, float]],
+                 water_table: float, gamma_w: float, columns: int = 120, rows: int = 240):
+        self.mesh, self.water_table, self.gamma_w = mesh, water_table, gamma_w
+        lo, hi = mesh.points.min(axis=0), mesh.points.max(axis=0)
+        self.xs = np.linspace(lo[0], hi[0], columns)
+        self.top, self.dy = hi[1], (hi[1] - lo[1]) / rows
+        ys = hi[1] - self.dy * (np.arange(rows) + 0.5)            # cell midpoints, top down
+        gx, gy = np.meshgrid(self.xs, ys, indexing="ij")            # (columns, rows)
+        elem, _ = mesh.locate(np.column_stack([gx.ravel(), gy.ravel()]))
+        names = mesh.region_names
+        g_dry = np.array([unit_weights.get(n, (0.0, 0.0, 0.0))[0] for n in names] + [0.0])
+        g_sat = np.array([unit_weights.get(n, (0.0, 0.0, 0.0))[1] for n in names] + [0.0])
+        self.k0s = np.array([unit_weights.get(n, (0.0, 0.0, 0.5))[2] for n in names] + [0.5])
+        starting = np.array([n in unit_weights for n in names] + [False])
+        reg = np.where(elem >= 0, mesh.region[np.maximum(elem, 0)], len(names)).reshape(gx.shape)
+        inside = starting[reg]
+        gamma = np.where(gy < water_table, g_sat[reg], g_dry[reg]) * inside
+        # total vertical stress at the bottom of each cell, free water above the ground
+        sv_cells = np.cumsum(gamma * self.dy, axis=1)
+        ground = np.where(inside.any(axis=1), hi[1] - self.dy * inside.argmax(axis=1), lo[1])
+        sv_cells += gamma_w * np.maximum(water_table - ground, 0.0)[:, None]
+        # sv at depth k * dy below the box top, k = 0..rows; linear between raster nodes
+        self.svk = np.concatenate([np.zeros((columns, 1)), sv_cells], axis=1)
+
+    def __call__(self, x: np.ndarray, y: np.ndarray) -> dict[str, np.ndarray]:
+        """As :func:`geostatic_stress`, at points (x, y)."""
+        columns, rows = self.svk.shape[0], self.svk.shape[1] - 1
+        x = np.asarray(x, float)
+        y = np.asarray(y, float)
+        fx = np.clip(np.interp(x, self.xs, np.arange(columns)), 0, columns - 1)
+        fy = np.clip((self.top - y) / self.dy, 0, rows)
+        i0 = np.minimum(np.floor(fx).astype(int), max(columns - 2, 0))
+        j0 = np.minimum(np.floor(fy).astype(int), rows - 1)
+        ax, ay = fx - i0, fy - j0
+        svk = self.svk
+        i1 = np.minimum(i0 + 1, columns - 1)
+        sv = ((1 - ax) * ((1 - ay) * svk[i0, j0] + ay * svk[i0, j0 + 1])
+              + ax * ((1 - ay) * svk[i1, j0] + ay * svk[i1, j0 + 1]))
+        u0 = self.gamma_w * np.maximum(self.water_table - y, 0.0)
+        mesh = self.mesh
+        elem_p, _ = mesh.locate(np.column_stack([x, y]))
+        k0 = self.k0s[np.where(elem_p >= 0, mesh.region[np.maximum(elem_p, 0)],
+                               len(mesh.region_names))]
+        sv_eff = sv - u0
+        return {"hydrostatic_kPa": u0, "vertical_effective_kPa": sv_eff,
+                "horizontal_effective_kPa": k0 * sv_eff}

@@ -302,7 +302,7 @@ def read_mesh(path: str | Path) -> Mesh:
         return mesh_geo_file(path)
     import meshio
     try:
-        m = meshio.read(path)
+        m = meshio.read(path, file_format="gmsh") if path.suffix == ".msh" else meshio.read(path)
     except Exception as exc:  # meshio raises many kinds; turn each into one clear message
         raise MeshError(f"cannot read the mesh: {exc}", source=str(path),
                         fix="give a Gmsh .msh file (format 2.2 or 4.1).") from None

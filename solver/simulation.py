@@ -152,7 +152,7 @@ class Simulation:
         pb, d, mesh = self.problem, self.problem.disc, self.mesh
         ne, nq = d.detJ.shape
         x, y = d.xq[..., 0].ravel(), d.xq[..., 1].ravel()
-        g = self._geostatic(x, np.minimum(y, 0.0))
+        g = self._geostatic(x, y)
         stress0 = np.zeros((ne, nq, 4))
         stress0[..., 0] = -g["horizontal_effective_kPa"].reshape(ne, nq)
         stress0[..., 1] = -g["vertical_effective_kPa"].reshape(ne, nq)
@@ -236,7 +236,7 @@ class Simulation:
         if m.section.kind == "mesh":
             dr = m.drainage
             self.fixities += [Fixity(e, x=0.0, y=0.0) for e in dr.fixed_edges]
-            self.fixities += [Fixity(e, x=0.0) for e in dr.roller_edges]
+            self.fixities += [self._roller(e) for e in dr.roller_edges]
             self.drained_edges += list(dr.drained_edges)
         else:
             self.fixities.append(Fixity("base", x=0.0, y=0.0))
@@ -275,10 +275,23 @@ class Simulation:
             ramp = self.ramps[r] = Ramp()
             self.body_forces.append(BodyForce(r, self.region_material[r].unit_weight, ramp))
 
+    def _roller(self, name: str) -> Fixity:
+        """A roller on a straight vertical or horizontal mesh edge: the normal component is
+        held. A sloping roller edge is refused (it would need a skew constraint)."""
+        pts = self.mesh.points[self.mesh.edge_nodes(name)]
+        dx, dy = np.ptp(pts[:, 0]), np.ptp(pts[:, 1])
+        if dx <= 1e-9 * max(dy, 1e-300):
+            return Fixity(name, x=0.0)
+        if dy <= 1e-9 * max(dx, 1e-300):
+            return Fixity(name, y=0.0)
+        raise InputError(f"roller edge {name!r} is neither vertical nor horizontal",
+                         field="drainage.roller_edges", source=self.model.source,
+                         fix="put rollers on straight vertical or horizontal edges only, or "
+                             "list the edge in fixed_edges.")
+
     def _initial_state(self):
         """Geostatic state at the nodes and at the probes (compression positive)."""
-        from .initial import LayerColumn, at_rest_coefficient, geostatic_stress, \
-            geostatic_stress_on_mesh
+        from .initial import LayerColumn, MeshOverburden, at_rest_coefficient, geostatic_stress
         m, mesh = self.model, self.mesh
         wt = -m.water.table_depth
         gw = m.water.unit_weight
@@ -286,12 +299,13 @@ class Simulation:
             weights = {r: (mat.unit_weight, mat.saturated_unit_weight or mat.unit_weight,
                            at_rest_coefficient(mat))
                        for r, mat in self.region_material.items() if r not in self.lift_regions}
-            self._geostatic = lambda x, y: geostatic_stress_on_mesh(mesh, weights, wt, gw, x, y)
+            self._geostatic = MeshOverburden(mesh, weights, wt, gw)
         else:
             col = LayerColumn.from_model(m, mesh.points[:, 0].min(), mesh.points[:, 0].max())
-            self._geostatic = lambda x, y: geostatic_stress(col, wt, gw, x, y)
+            # Points above the original ground belong to lifts, placed later and stress-free.
+            self._geostatic = lambda x, y: geostatic_stress(col, wt, gw, x, np.minimum(y, 0.0))
         x, y = mesh.points.T
-        g = self._geostatic(x, np.minimum(y, 0.0))
+        g = self._geostatic(x, y)
         ground = ~np.isin(mesh.region, [mesh.region_id(r) for r in self.lift_regions])
         on_ground = np.zeros(mesh.n_nodes, bool)
         on_ground[mesh.triangles[ground].ravel()] = True
@@ -317,7 +331,7 @@ class Simulation:
         self._probe_elem, self._probe_pts = elem, pts
         self._probe_N = element.p2(ref)[0]                  # (np, 6)
         self._probe_B = self._b_at(elem, ref)
-        self._probe_init = self._geostatic(pts[:, 0], np.minimum(pts[:, 1], 0.0)) if len(pts) \
+        self._probe_init = self._geostatic(pts[:, 0], pts[:, 1]) if len(pts) \
             else None
         self.lines = []
         for ln in m.lines:

@@ -447,7 +447,7 @@ class StepSolver:
     def __init__(self, problem: BiotProblem, backend: str | None = None):
         from .. import linalg
         self.problem = problem
-        self.backend = backend or linalg.default_backend()
+        self.backend = backend or linalg.default_backend(problem.disc.n_dofs)
         self._factors: dict[float, object] = {}
         self.factor_seconds = 0.0
         self.n_factorizations = 0
