@@ -17,7 +17,9 @@ $(STAMP): $(BIN)/python pyproject.toml
 
 demo: $(STAMP)
 	MPLBACKEND=Agg $(BIN)/poroplane run examples/embankment.toml -o $(DEMO_OUT)
-	@echo "The demo's results are in $(CURDIR)/$(DEMO_OUT)/ (open results.xdmf in ParaView)."
+	MPLBACKEND=Agg $(BIN)/poroplane report $(DEMO_OUT)
+	@echo "The demo's results are in $(CURDIR)/$(DEMO_OUT)/: report.html (open it in a browser),"
+	@echo "plots/ (PNG), results.xdmf (ParaView), probes.csv, summary.json, comparison.csv."
 
 test: $(STAMP)
 	MPLBACKEND=Agg $(BIN)/python -m pytest -q
