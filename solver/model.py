@@ -1330,13 +1330,9 @@ def _layer_depths(model: Model) -> tuple[float, float] | None:
     return left, right
 
 
-def loaded_extent(model: Model) -> tuple[float, float] | None:
-    """(x_left, x_right) of everything loading the ground, m, mirror images included.
-
-    The embankment footprint (toe to toe, berms included), the footings and the surface
-    loads; in a half or axisymmetric model the span is mirrored about x = 0. None if nothing
-    loads the ground.
-    """
+def loaded_spans(model: Model) -> list[tuple[float, float]]:
+    """x ranges of everything that loads the ground: the embankment footprint (toe to toe,
+    berms included), the footings and the surface loads."""
     sec = model.section
     spans = []
     if sec.kind == "embankment" and sec.embankment is not None:
@@ -1344,7 +1340,18 @@ def loaded_extent(model: Model) -> tuple[float, float] | None:
         spans.append((-toe, toe))
     if sec.kind == "footings":
         spans += [(f.center - f.width / 2, f.center + f.width / 2) for f in sec.footings]
-    spans += [(lo.x_left, lo.x_right) for lo in model.loads]
+    spans += [tuple(sorted((float(ld.x_left), float(ld.x_right)))) for ld in model.loads]
+    return spans
+
+
+def loaded_extent(model: Model) -> tuple[float, float] | None:
+    """(x_left, x_right) of everything loading the ground, m, mirror images included.
+
+    The embankment footprint (toe to toe, berms included), the footings and the surface
+    loads; in a half or axisymmetric model the span is mirrored about x = 0. None if nothing
+    loads the ground.
+    """
+    spans = loaded_spans(model)
     if not spans:
         return None
     lo, hi = min(s[0] for s in spans), max(s[1] for s in spans)

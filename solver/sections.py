@@ -55,6 +55,7 @@ import numpy as np
 from .errors import InputError, MeshError
 from .geometry import _generate, gmsh_session
 from .mesh import Mesh, read_mesh
+from .model import base_elevation, domain_extent, embankment_profile, loaded_spans
 
 GROWTH = 0.3        # increase of element size per unit distance from a refined place, m/m
 SHAPE_GROWTH = 0.6  # the same away from a thin layer far from the load (only against slivers)
@@ -239,7 +240,6 @@ def resolve_extent(model) -> tuple[float, float, float]:
     One rule (see that function and docs/model.md) serves the mesh, the probes and the
     warnings alike; this only refuses an extent that cannot be meshed.
     """
-    from .model import domain_extent
     ext = domain_extent(model)
     if ext is None:
         raise InputError("the extent of the section is unknown", field="section.depth",
@@ -280,7 +280,6 @@ def embankment_outline(emb, half: bool = False, source: str | None = None) -> li
     The surface is :func:`solver.model.embankment_profile` (crest, side slopes, a bench of
     each berm's width at its height); mirrored about x = 0, or closed along x = 0 when half.
     """
-    from .model import embankment_profile
     _check_embankment(emb, source)
     right = _dedupe([(float(x), float(y)) for x, y in embankment_profile(emb)[1:]])
     up = list(reversed(right))                   # toe -> crest edge
@@ -460,7 +459,6 @@ class _Plan:
                              fix="give at least one [[layers]] entry (name, material, "
                                  "thickness).")
         x_min, x_max, depth = resolve_extent(model)
-        from .model import base_elevation
         base = (base_elevation(model, x_min), base_elevation(model, x_max))
         if base[0] is None or base[1] is None:
             base = (-depth, -depth)
@@ -786,25 +784,13 @@ def _layer_lines(model, base: tuple[float, float]) -> list[tuple[float, float]]:
     return lines
 
 
-def _loaded_spans(model) -> list[tuple[float, float]]:
-    """x ranges of everything that loads the ground (embankment footprint, footings, loads)."""
-    sec = model.section
-    spans = []
-    if sec.kind == "embankment" and sec.embankment is not None:
-        from .model import embankment_profile
-        toe = embankment_profile(sec.embankment)[-1][0]
-        spans.append((-toe, toe))
-    if sec.kind == "footings":
-        spans += [(f.center - f.width / 2, f.center + f.width / 2) for f in sec.footings]
-    spans += [tuple(sorted((float(ld.x_left), float(ld.x_right)))) for ld in model.loads]
-    return spans
 
 
 def _loaded_widths(model) -> list[float]:
     """Physical widths of the loads (a load cut by the symmetry line counts whole)."""
     symmetric = _is_symmetric(model)
     out = []
-    for a, b in _loaded_spans(model):
+    for a, b in loaded_spans(model):
         if symmetric and a <= 0 < b:
             out.append(2 * max(-a, b))     # the mirror image makes it one load
         else:
