@@ -202,9 +202,10 @@ class Drainage:
 class Stage:
     """One construction or waiting period.
 
-    kind : "lift" (place ``lift`` number n: its elements become active, stress-free, and their
-    weight ramps on over the duration), "load" (ramp the named loads/footings by ``factor``
-    over the duration: 1 applies, 0 removes, 0.5 halves), or "consolidate" (nothing changes).
+    kind : "lift" (place ``lift`` number n of the embankment, or on a user mesh the named
+    ``region``: its elements become active, stress-free, and their weight ramps on over the
+    duration), "load" (ramp the named loads/footings by ``factor`` over the duration: 1
+    applies, 0 removes, 0.5 halves), or "consolidate" (nothing changes).
     duration : days (for "consolidate" with ``until_degree``: the longest it may last).
     until_degree : stop a "consolidate" stage once the average degree of consolidation
     reaches this fraction (0.9 = 90 %).
@@ -216,6 +217,7 @@ class Stage:
     loads: list[str] = field(default_factory=list)
     factor: float = 1.0
     until_degree: float | None = None
+    region: str | None = None
 
 
 @dataclass
@@ -469,6 +471,7 @@ _STAGE_RULES: dict[str, _Rule] = {
     "kind": _r("choice", 'kind = "consolidate"', choices=STAGE_KINDS),
     "duration": _r("time", 'duration = "60 days"', **_POS),
     "lift": _r("int", "lift = 1", low=1.0, low_open=False),
+    "region": _r("text", 'region = "fill"'),
     "loads": _r("texts", 'loads = ["footing_1"]'),
     "factor": _r("number", "factor = 1.0", **_NONNEG,
                  fix="factor is the fraction of each named load present at the end of the "
@@ -1283,7 +1286,25 @@ def _check_stages(model: Model) -> None:
             _fail(model, f"until_degree is given for a stage of kind {st.kind!r}",
                   f"{p}.until_degree", "until_degree ends a stage of kind \"consolidate\"; "
                                        "add such a stage after this one.")
+        if st.kind != "lift" and st.region is not None:
+            _fail(model, f"region is given for a stage of kind {st.kind!r}", f"{p}.region",
+                  "set kind = \"lift\" to place a region of the mesh, or remove region.")
+        if st.kind == "lift" and model.section.kind == "mesh":
+            if st.region is None or st.lift is not None:
+                _fail(model, "on a user mesh a stage of kind 'lift' places a named region",
+                      f"{p}.region", "give region = \"NAME\", a region of the mesh listed in "
+                                     "[section.regions], instead of lift.")
+            _name_check(model, st.region, list(model.section.regions), f"{p}.region",
+                        "region", "list it in [section.regions] with its material")
+            earlier = [s.region for s in model.stages[:i] if s.kind == "lift"]
+            if st.region in earlier:
+                _fail(model, f"region {st.region!r} is placed twice", f"{p}.region",
+                      "place each region once.")
+            continue
         if st.kind == "lift":
+            if st.region is not None:
+                _fail(model, "region places part of a user mesh; an embankment is placed by "
+                             "lift number", f"{p}.region", "use lift = N instead.")
             if st.lift is None:
                 _fail(model, "a stage of kind 'lift' needs the lift it places", f"{p}.lift",
                       f"add lift = {placed + 1} (lifts are numbered 1, 2, ... from the bottom).")

@@ -32,7 +32,7 @@ class Runner:
         sim, pb = self.sim, self.sim.problem
         st = sim.model.stages[k]
         if st.kind == "lift":
-            region = f"lift_{st.lift}"
+            region = st.region or f"lift_{st.lift}"
             if placement is None:
                 pb.activate([region], x)
             sim.ramps[region].set(t0, st.duration, 1.0)

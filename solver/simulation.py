@@ -223,7 +223,10 @@ class Simulation:
         self.region_material = {r: m.materials[region_mat[r]] for r in mesh.region_names}
         self.fe_materials = {r: fe_material(mat, m.water.unit_weight)
                              for r, mat in self.region_material.items()}
-        self.lift_regions = [r for r in mesh.region_names if r.startswith("lift_")]
+        if m.section.kind == "mesh":
+            self.lift_regions = [st.region for st in m.stages if st.kind == "lift"]
+        else:
+            self.lift_regions = [r for r in mesh.region_names if r.startswith("lift_")]
         self.fill_regions = list(self.lift_regions)
         self.active0 = ~np.isin(mesh.region, [mesh.region_id(r) for r in self.lift_regions])
 

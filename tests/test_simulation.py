@@ -118,3 +118,31 @@ def test_two_footings_far_apart_settle_like_one_alone_and_a_rigid_base_moves_as_
     st = both_sim.problem.drained_state(1e9)
     uy = st.displacement()[nodes, 1]
     assert np.ptp(uy) < 1e-12 * np.abs(uy).max()
+
+
+def test_a_region_of_a_user_mesh_is_placed_by_a_stage_and_its_weight_settles_the_ground():
+    # The fill of the shipped section placed in 20 days instead of being there from the start:
+    # before placement it carries no stress; its weight then settles the ground below it.
+    from pathlib import Path
+    from solver.model import load_model
+    import pytest
+    from solver.errors import InputError
+    here = Path(__file__).resolve().parents[1]
+    m = load_model(here / "examples" / "irregular_section.toml")
+    m.loads = []
+    m.stages = [Stage("place fill", "lift", 20.0, region="fill"),
+                Stage("wait", "consolidate", 365.0)]
+    sim = Simulation(m)
+    fill = sim.mesh.region == sim.mesh.region_id("fill")
+    assert not sim.active0[fill].any() and sim.active0[~fill].all()
+    inside = np.unique(sim.mesh.triangles[fill])
+    only_fill = np.setdiff1d(inside, sim.mesh.triangles[~fill])
+    assert np.all(sim.initial["vertical_effective_kPa"][only_fill] == 0.0)
+    r = sim.run()
+    assert r.probe("under_fill")["settlement_m"][-1] > 0.0
+    bad = load_model(here / "examples" / "irregular_section.toml")
+    bad.stages = [Stage("place", "lift", 20.0, region="fil")]
+    from solver.model import check_model
+    with pytest.raises(InputError, match="fil") as err:
+        check_model(bad)
+    assert err.value.field == "stages[1].region"
