@@ -177,8 +177,12 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--version", action="version", version=f"poroplane {__version__}")
     p.add_argument("--debug", action="store_true", help="show the full traceback on errors")
     sub = p.add_subparsers(dest="command", required=True, metavar="COMMAND")
+    # --debug also after the command name (poroplane run MODEL --debug)
+    common = argparse.ArgumentParser(add_help=False)
+    common.add_argument("--debug", action="store_true", default=argparse.SUPPRESS,
+                        help="show the full traceback on errors")
 
-    v = sub.add_parser("validate", help="run the validation cases against closed-form solutions")
+    v = sub.add_parser("validate", parents=[common], help="run the validation cases against closed-form solutions")
     v.add_argument("--quick", action="store_true", help="coarse meshes (about a minute)")
     v.add_argument("--json", action="store_true", help="print the checks as JSON")
     v.add_argument("--out", default="validation-results", help="folder for the comparison plots")
@@ -186,16 +190,16 @@ def build_parser() -> argparse.ArgumentParser:
                    help="run only this case (repeatable): " + ", ".join(CASES))
     v.set_defaults(func=_validate)
 
-    c = sub.add_parser("check", help="read, check and mesh a model file; solve nothing")
+    c = sub.add_parser("check", parents=[common], help="read, check and mesh a model file; solve nothing")
     c.add_argument("model", help="model file (.toml)")
     c.set_defaults(func=_check)
 
-    m = sub.add_parser("mesh", help="write the mesh of a model")
+    m = sub.add_parser("mesh", parents=[common], help="write the mesh of a model")
     m.add_argument("model", help="model file (.toml)")
     m.add_argument("-o", "--output", required=True, help="mesh file to write (.msh, .vtu, ...)")
     m.set_defaults(func=_mesh)
 
-    r = sub.add_parser("run", help="solve a model through its stages, streaming results")
+    r = sub.add_parser("run", parents=[common], help="solve a model through its stages, streaming results")
     r.add_argument("model", help="model file (.toml)")
     r.add_argument("-o", "--output", required=True, help="folder for the results")
     r.add_argument("--resume", action="store_true",
@@ -208,25 +212,25 @@ def build_parser() -> argparse.ArgumentParser:
                    help="skip the default plots and pictures after the run")
     r.set_defaults(func=_run)
 
-    pl = sub.add_parser("plot", help="plots and section pictures of a run (PNG)")
+    pl = sub.add_parser("plot", parents=[common], help="plots and section pictures of a run (PNG)")
     pl.add_argument("results", help="folder written by 'poroplane run'")
     pl.add_argument("--times", type=float, nargs="+", metavar="DAYS",
                     help="times (days) for isochrones, troughs and pictures")
     pl.set_defaults(func=_plot)
 
-    rp = sub.add_parser("report", help="one self-contained HTML report of a run")
+    rp = sub.add_parser("report", parents=[common], help="one self-contained HTML report of a run")
     rp.add_argument("results", help="folder written by 'poroplane run'")
     rp.set_defaults(func=_report)
 
-    h = sub.add_parser("hand", help="the hand method alone: settlement, t50, t90 per probe")
+    h = sub.add_parser("hand", parents=[common], help="the hand method alone: settlement, t50, t90 per probe")
     h.add_argument("model", help="model file (.toml)")
     h.set_defaults(func=_hand)
 
-    cp = sub.add_parser("compare", help="hand method against the finite elements of a run")
+    cp = sub.add_parser("compare", parents=[common], help="hand method against the finite elements of a run")
     cp.add_argument("results", help="folder written by 'poroplane run'")
     cp.set_defaults(func=_compare)
 
-    b = sub.add_parser("bench", help="time assembly, factorization and stepping (a benchmark)")
+    b = sub.add_parser("bench", parents=[common], help="time assembly, factorization and stepping (a benchmark)")
     b.add_argument("--elements", type=int, default=20_000, help="target number of triangles")
     b.add_argument("--steps", type=int, default=100, help="time steps")
     b.add_argument("--linear-solver", default=None,

@@ -34,7 +34,7 @@ class InputError(PoroplaneError):
             where += f"{self.field}: "
         text = where + self.message
         if self.fix:
-            text += f" Fix: {self.fix}"
+            text += ("" if text.rstrip().endswith((".", ":", "?", "!")) else ".") + f" Fix: {self.fix}"
         return text
 
 
