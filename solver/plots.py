@@ -659,8 +659,17 @@ def _load_sketch(ax, run: RunData, x_lo: float, x_hi: float) -> bool:
         ax.set_ylabel("height (m)", fontsize=8)
         top = max(top, float(sec.embankment.height))
         drawn = True
+    embankment = drawn
     for ft in getattr(sec, "footings", []) or []:
-        ax.add_patch(_rect(ft.center - ft.width / 2, 0.0, ft.width, 0.5, "#9a9a9a"))
+        x0 = ft.center - ft.width / 2
+        if m.analysis == "axisymmetric":
+            x0, w = 0.0, ft.width / 2               # the radius, from the axis
+        else:
+            w = ft.width
+        ax.add_patch(_rect(x0, 0.0, w, 0.5, "#9a9a9a"))
+        load = f"{ft.load:g} kPa" if ft.load is not None else f"{ft.force:g} kN"
+        ax.text(x0 + 0.5 * w, 0.52, f"{ft.name}: {load}", ha="center", va="bottom",
+                fontsize=7.5)
         top = max(top, 0.5)
         drawn = True
     for lo in m.loads:
@@ -672,8 +681,9 @@ def _load_sketch(ax, run: RunData, x_lo: float, x_hi: float) -> bool:
     if drawn:
         ax.axhline(0.0, color="#333333", lw=0.8)
         ax.set_xlim(x_lo, x_hi)
-        ax.set_ylim(0.0, 1.25 * top)
-        ax.set_yticks([0.0, top])
+        ax.set_ylim(0.0, 1.5 * top)
+        # Heights are to scale for an embankment only; footings and loads are symbols.
+        ax.set_yticks([0.0, top] if embankment else [])
         ax.tick_params(labelsize=8)
         ax.tick_params(axis="x", labelbottom=False)
     return drawn
