@@ -24,7 +24,8 @@ from ._plot import figure, save
 
 NAME = "axisymmetric"
 TITLE = "Axisymmetric: thick-walled cylinder and consolidating column"
-SOURCE_LAME = "Lame (1852) Lecons sur la theorie mathematique de l'elasticite; Timoshenko and Goodier (1970) sec. 30"
+SOURCE_LAME = ("Lame (1852) Lecons sur la theorie mathematique de l'elasticite; Timoshenko and "
+               "Goodier (1970) Theory of Elasticity (section number from memory)")
 A, B_OUT, P_IN = 1.0, 2.0, 100.0
 E, NU = 10_000.0, 0.3
 

@@ -3,7 +3,7 @@
 The thick-walled cylinder of ``axisymmetric.py`` (smooth closed form, Lame 1852) on a sequence
 of uniformly refined meshes. Quadratic (P2) displacement elements converge in the L2 norm of
 the displacement error at order h^3 (Ciarlet 1978, The Finite Element Method for Elliptic
-Problems, theorem 3.2.5, for smooth solutions). The rate is fitted by numpy.polyfit of
+Problems, theorem 3.2.5 (number from memory), for smooth solutions). The rate is fitted by numpy.polyfit of
 log(error) against log(h) and must lie within 0.3 of 3.
 """
 
@@ -21,7 +21,8 @@ from .axisymmetric import A, B_OUT, E, NU, P_IN, cylinder
 
 NAME = "convergence"
 TITLE = "Mesh refinement: observed convergence order"
-SOURCE = ("Ciarlet (1978) The Finite Element Method for Elliptic Problems, thm 3.2.5 (order "
+SOURCE = ("Ciarlet (1978) The Finite Element Method for Elliptic Problems (theorem number "
+          "from memory: 3.2.5) (order "
           "k+1 = 3 in L2 for P2); exact field from Lame (1852)")
 
 

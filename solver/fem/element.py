@@ -8,7 +8,9 @@ from __future__ import annotations
 
 import numpy as np
 
-# Symmetric triangle rules (Strang and Fix 1973, table 4.1; Dunavant 1985). Weights sum to 1/2.
+# Symmetric triangle rules (Strang and Fix 1973, An Analysis of the Finite Element Method,
+# table 4.1, table number from memory; Dunavant 1985). Weights sum to 1/2; the tests check
+# their exactness on monomials.
 _A, _B = 0.445948490915965, 0.091576213509771
 _WA, _WB = 0.223381589678011 / 2, 0.109951743655322 / 2
 
