@@ -13,7 +13,6 @@ from pathlib import Path
 import numpy as np
 
 from . import CAUTION, __version__
-from .errors import InputError
 from .fem.biot import State
 
 
@@ -27,31 +26,22 @@ class Runner:
         self.model_text = model_text
 
     # ------------------------------------------------------------------
-    def _start_stage(self, k: int, t0: float, x: np.ndarray, placement=None) -> None:
-        """Apply what stage k does at its start (place a lift, set load ramps)."""
+    def _start_stage(self, k: int, t0: float, x: np.ndarray) -> None:
+        """Apply what stage k does at its start (place a lift, set load ramps).
+
+        ``x``: the unknowns at the start, which a placed lift measures its strain from. They
+        are kept (``self.placed_at``) so a resumed run places its lifts identically.
+        """
         sim, pb = self.sim, self.sim.problem
         st = sim.model.stages[k]
         if st.kind == "lift":
             region = st.region or f"lift_{st.lift}"
-            if placement is None:
-                pb.activate([region], x)
+            pb.activate([region], x)
+            self.placed_at.append(x.copy())
             sim.ramps[region].set(t0, st.duration, 1.0)
         elif st.kind == "load":
-            for name in st.loads:
-                if name not in sim.ramps:
-                    raise InputError(f"stage {st.name!r} names load {name!r}, never defined",
-                                     field=f"stages[{k + 1}].loads", source=sim.model.source,
-                                     fix=f"use one of {sorted(n for n in sim.ramps if not n.startswith('lift_'))}.")
+            for name in st.loads:   # names were checked when the model was read
                 sim.ramps[name].set(t0, st.duration, st.factor)
-
-    def _restore_placement(self, arrays: dict) -> None:
-        pb = self.sim.problem
-        pb.active = arrays["active"].astype(bool)
-        pb.placed_strain_nodes = arrays["placed_strain_nodes"]
-        pb.f_placed = arrays["f_placed"]
-        pb._assemble()
-        pb._constrain()
-        pb.version = int(arrays["version"])
 
     def run(self):
         from .results import ResultWriter, probe_summary
@@ -69,12 +59,15 @@ class Runner:
         hist = {name: {c: [] for c in PROBE_COLUMNS} for name in sim.probe_names}
         lines = {ln.name: [] for ln in model.lines}
         ck = writer.load_checkpoint() if (writer is not None and self.resume) else None
+        self.placed_at: list[np.ndarray] = []
         if ck is not None:
             step, t, arrays, info = ck
             state = State(t, arrays["x"], pb.disc.n_u)
+            # Replay the stage starts: lifts placed from the unknowns they were placed at.
+            placed = iter(arrays[f"placed_at_{j}"] for j in range(int(arrays["n_placed"])))
             for k, t0 in enumerate(info["stage_starts"]):
-                self._start_stage(k, t0, state.x, placement=True)
-            self._restore_placement(arrays)
+                x_k = next(placed) if model.stages[k].kind == "lift" else state.x
+                self._start_stage(k, t0, x_k)
             if hasattr(solver, "restore"):
                 solver.restore(arrays)
             hist_t = list(arrays["hist_t"])
@@ -190,8 +183,8 @@ class Runner:
         names = self.sim.probe_names
         vals = np.array([[hist[n][c] for c in PROBE_COLUMNS] for n in names])  # (np, nc, nt)
         vals = vals.transpose(2, 0, 1) if vals.size else np.zeros((len(hist_t), len(names), 0))
-        out = {"x": state.x, "active": pb.active, "placed_strain_nodes": pb.placed_strain_nodes,
-               "f_placed": pb.f_placed, "version": np.array(pb.version),
+        out = {"x": state.x, "n_placed": np.array(len(self.placed_at)),
+               **{f"placed_at_{j}": x for j, x in enumerate(self.placed_at)},
                "hist_t": np.array(hist_t), "hist_vals": vals}
         if solver is not None and hasattr(solver, "state_arrays"):
             out.update(solver.state_arrays())

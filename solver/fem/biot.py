@@ -53,7 +53,6 @@ class Traction:
     normal: float = 0.0
     vertical: float = 0.0
     history: History = constant
-    where: Callable[[np.ndarray], np.ndarray] | None = None  # x (..., 2) -> bool mask (loaded part)
 
 
 @dataclass
@@ -247,8 +246,6 @@ class BiotProblem:
             def traction(x, nrm, tr=tr, s=s):
                 t_ = -s * tr.normal * nrm
                 t_[..., 1] -= s * tr.vertical
-                if tr.where is not None:
-                    t_ *= tr.where(x)[..., None]
                 return t_
             f[:d.n_u] += d.edge_traction_vector(seg, traction)
         per = 1.0 / (2 * np.pi) if d.axisymmetric else 1.0
