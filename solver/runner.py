@@ -179,7 +179,6 @@ class Runner:
 
     def _arrays(self, state, hist_t, hist, solver=None) -> dict:
         from .simulation import PROBE_COLUMNS
-        pb = self.sim.problem
         names = self.sim.probe_names
         vals = np.array([[hist[n][c] for c in PROBE_COLUMNS] for n in names])  # (np, nc, nt)
         vals = vals.transpose(2, 0, 1) if vals.size else np.zeros((len(hist_t), len(names), 0))

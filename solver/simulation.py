@@ -13,15 +13,12 @@ ground under it drains through it.
 
 from __future__ import annotations
 
-import signal
-import time as _time
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
 
-from . import CAUTION, __version__
-from .errors import InputError, SolverError
+from .errors import InputError
 from .fem.biot import (BiotProblem, BodyForce, Fixity, RigidPlate, State, StepSolver,
                        Traction)
 from .fem import element
@@ -148,7 +145,6 @@ class Simulation:
             self.stepper = StepSolver(self.problem, backend=self.backend)
             return self.stepper
         from .fem.newton import NewtonStepSolver
-        from .initial import at_rest_coefficient
         pb, d, mesh = self.problem, self.problem.disc, self.mesh
         ne, nq = d.detJ.shape
         x, y = d.xq[..., 0].ravel(), d.xq[..., 1].ravel()
@@ -194,10 +190,10 @@ class Simulation:
         """Newton path: mean change of effective stress over each element's quadrature
         points, (ne or len(elem), 4), tension positive."""
         st = self.stepper
-        ds = st.stress - st.stress0
-        w = self.problem.disc.dV
-        mean = np.einsum("eqi,eq->ei", ds, w) / w.sum(axis=1)[:, None]
-        return mean if elem is None else mean[elem]
+        e = slice(None) if elem is None else elem       # probes: only their elements
+        ds = st.stress[e] - st.stress0[e]
+        w = self.problem.disc.dV[e]
+        return np.einsum("eqi,eq->ei", ds, w) / w.sum(axis=1)[:, None]
 
     # ------------------------------------------------------------ set-up
     def _region_materials(self):
