@@ -176,8 +176,8 @@ def test_a_run_folder_without_results_is_an_error(tmp_path):
 def picture_paths(run_dir) -> list[Path]:
     from solver.pictures import make_pictures, rendering_available
     ok, why = rendering_available()
-    assert ok, ("off-screen rendering must work for these tests (CI installs Mesa's EGL, see "
-                ".ci/run): " + why)
+    assert ok, ("off-screen rendering must work for these tests (make test installs Mesa's "
+                "EGL, see tools/system-packages.sh): " + why)
     return make_pictures(run_dir, times=[180.0, 910.0])
 
 

@@ -1,7 +1,7 @@
 """The HTML report (solver/report.py): self-contained, complete, and it renders in a browser.
 
-The page is opened in headless Chromium (Debian package ``chromium``; CI installs it in
-.ci/run): its DOM must hold every section, every embedded image must decode in the browser
+The page is opened in headless Chromium (Debian package ``chromium``; ``make test`` installs
+it through tools/system-packages.sh): its DOM must hold every section, every embedded image must decode in the browser
 and in PIL and carry a picture, and a screenshot of the page must not be blank. The quick
 validation is replaced by a fixed result so that the test stays fast; its caching is tested
 with a stand-in for the validation run.
@@ -50,7 +50,7 @@ def browser() -> str:
     if os.environ.get("POROPLANE_SKIP_BROWSER") == "1":
         pytest.skip("POROPLANE_SKIP_BROWSER=1 and no Chromium installed")
     pytest.fail("the report test needs headless Chromium: apt-get install -y chromium "
-                "(.ci/run installs it; set POROPLANE_SKIP_BROWSER=1 to skip locally)")
+                "(make test installs it; set POROPLANE_SKIP_BROWSER=1 to skip locally)")
 
 
 def chromium(tmp: Path, *args: str, timeout: float = 120.0) -> subprocess.CompletedProcess:
