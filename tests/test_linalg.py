@@ -1,4 +1,4 @@
-"""Sparse direct solves of the Biot step matrix (solver/linalg.py).
+"""Sparse direct solves of the Biot step matrix (solver/linalg/).
 
 The matrices are small synthetic P2/P1 plane-strain Biot steps (``synthetic_biot_matrix``), with
 random moduli and permeabilities per element and a seeded random mesh jitter; the reference is
@@ -15,6 +15,7 @@ import scipy.sparse.linalg as spla
 from solver import linalg
 from solver.errors import InputError, SolverError
 from solver.linalg import Ordering, available_backends, factor, synthetic_biot_matrix
+from solver.linalg import pardiso, superlu
 
 BACKENDS = available_backends()
 
@@ -164,7 +165,7 @@ def test_spoiled_no_pivot_factorization_falls_back_to_pivoting(monkeypatch):
     # backward error check must catch it and refactor with partial pivoting.
     s = synthetic_biot_matrix(8, 7, dt=1e-9, seed=4)
     o = pressure_first(s, Ordering.from_groups(s.group_of_dof, s.node_adjacency))
-    monkeypatch.setattr(linalg, "_delay_weak_pivots", lambda A, perm, rowmax: perm)
+    monkeypatch.setattr(superlu, "_delay_weak_pivots", lambda A, perm, rowmax: perm)
     b = np.random.default_rng(10).standard_normal(s.A.shape[0])
     f = factor(s.A, "superlu-nd", o)
     assert not f.fell_back
@@ -184,7 +185,7 @@ def test_exactly_singular_no_pivot_factorization_falls_back(monkeypatch, undrain
             raise RuntimeError("Factor is exactly singular")
         return real_splu(A, permc_spec=permc_spec, **kw)
 
-    monkeypatch.setattr(linalg.spla, "splu", splu)
+    monkeypatch.setattr(superlu.spla, "splu", splu)
     f = factor(undrained.A, "superlu-nd")
     assert f.fell_back
     b = np.ones(undrained.A.shape[0])
@@ -223,7 +224,7 @@ def test_unknown_backend_is_an_input_error_listing_the_available_ones(drained):
 
 
 def test_missing_pardiso_is_an_input_error_naming_the_fix(monkeypatch, drained):
-    monkeypatch.setattr(linalg, "_pardiso_entry", lambda: None)
+    monkeypatch.setattr(pardiso, "_pardiso_entry", lambda: None)
     assert "pardiso" not in available_backends()
     assert linalg.default_backend() == "superlu-nd"
     with pytest.raises(InputError, match="pip install pypardiso"):
