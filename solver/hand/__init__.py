@@ -10,6 +10,9 @@ Modules (pure functions over numpy arrays; numpy/scipy and :mod:`solver.analytic
   of a stack of unlike layers.
 - :mod:`solver.hand.differential` - differential settlement, angular distortion, limits.
 - :mod:`solver.hand.parameters` - mv, cv, Cc, Cr from other parameters.
+- :mod:`solver.hand.radial` - radial consolidation towards vertical drains: the unit cell,
+  smear, well resistance, free strain, Carrillo's combination, the plane-strain match, the
+  spacing that reaches a target degree.
 
 Conventions: kN, m, kPa, kN/m3, days, permeability m/day; stresses compression positive,
 depth z positive downward from the ground surface, settlement positive downward.
