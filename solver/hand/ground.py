@@ -1,0 +1,277 @@
+"""The model's layers as the hand method sees them: compressibility, permeability, columns.
+
+:func:`layer_data` reads one model layer's material (oedometer Cc, Cr, e0, sigma'_p or m_v;
+Modified Cam Clay lambda and kappa; elastic moduli as the last resort) into the keyword
+arguments of :class:`solver.hand.settlement.Layer`, with a note for every conversion;
+:func:`mark_free_draining` applies the free-draining rule; :func:`build_column` gives the hand
+layers under one x (sloping layers at their local thickness), split at the probe depths, with
+each one's undrained modulus. See :mod:`solver.hand.estimate` for the method as a whole.
+
+Units: kN, m, kPa, kN/m3, days, permeability m/day; depth positive downward.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Sequence
+
+import numpy as np
+from numpy.typing import NDArray
+
+from solver.errors import InputError
+from solver.initial import LayerColumn, at_rest_coefficient
+from solver.model import Material, Model, base_elevation, domain_extent
+
+from . import parameters, settlement
+
+__all__ = ["FREE_DRAINING_RATIO", "LayerData", "layer_data", "mark_free_draining", "Column",
+           "layer_faces", "build_column", "elastic_youngs"]
+
+FREE_DRAINING_RATIO = 1000.0
+"""A layer whose vertical permeability is at least this many times the smallest one of the
+layers, and which reaches a drained boundary, is free-draining in the time rate."""
+
+_TOL = 1e-9
+
+
+@dataclass
+class LayerData:
+    """Hand-method view of one model layer (thickness filled in per column)."""
+    model_index: int
+    name: str
+    material: Material
+    kwargs: dict              # settlement.Layer keyword arguments except thickness
+    permeability_v: float
+    free_draining: bool = False
+
+
+def _oed_path(m: Material, key: str) -> str:
+    return f"materials.{m.name}.oedometer.{key}"
+
+
+def _vertical_k(m: Material) -> float:
+    return float(m.permeability_y if m.permeability_y is not None else m.permeability_x)
+
+
+def elastic_youngs(m: Material) -> float | None:
+    if m.youngs_modulus is not None:
+        return float(m.youngs_modulus)
+    if m.constrained_modulus is not None:
+        nu = m.poisson_ratio
+        return float(m.constrained_modulus) * (1 + nu) * (1 - 2 * nu) / (1 - nu)
+    return None
+
+
+def layer_data(model: Model, j: int, notes: list[str]) -> LayerData:
+    """Compressibility, permeability and unit weights of layer j for the hand method."""
+    ly = model.layers[j]
+    src = model.source
+    if ly.material not in model.materials:
+        raise InputError(f"layer {ly.name!r}: unknown material {ly.material!r}",
+                         field=f"layers[{j + 1}].material", source=src,
+                         fix=f"use one of {sorted(model.materials)}.")
+    m = model.materials[ly.material]
+    o = m.oedometer
+    who = f"layer {ly.name!r} (material {m.name!r})"
+    gamma_w = model.water.unit_weight
+
+    def fail(key: str, message: str, fix: str, path: str | None = None) -> None:
+        raise InputError(f"{who}: {message} (the FE run does not need it; the hand method does)",
+                         field=path or _oed_path(m, key), source=src, fix=fix)
+
+    sat = m.saturated_unit_weight if m.saturated_unit_weight is not None else m.unit_weight
+    kw: dict = {"name": ly.name, "unit_weight": float(sat), "unit_weight_above_water": float(m.unit_weight)}
+    e0 = o.void_ratio if o.void_ratio is not None else m.void_ratio
+    precon = {"preconsolidation_pressure": o.preconsolidation_pressure,
+              "overconsolidation_ratio": o.overconsolidation_ratio,
+              "preconsolidation_margin": o.preconsolidation_margin}
+    given = [k for k, v in precon.items() if v is not None]
+    mcc = m.model == "modified cam clay"
+    k_v = _vertical_k(m)
+
+    def preconsolidation() -> None:
+        if not given:
+            fail("overconsolidation_ratio", "the preconsolidation pressure is missing",
+                 f"give one of overconsolidation_ratio (1.0 for a normally consolidated layer), "
+                 f"preconsolidation_margin or preconsolidation_pressure under "
+                 f"[materials.{m.name}.oedometer].")
+        if len(given) > 1:
+            fail(given[1], f"the preconsolidation pressure is given twice ({', '.join(given)})",
+                 "give one of overconsolidation_ratio, preconsolidation_margin, "
+                 "preconsolidation_pressure.")
+        kw["preconsolidation_pressure"] = o.preconsolidation_pressure
+        kw["ocr"] = o.overconsolidation_ratio
+        kw["pre_overburden_pressure"] = o.preconsolidation_margin
+
+    if o.compression_index is not None:
+        if o.volume_compressibility is not None:
+            fail("volume_compressibility", "both compression_index and volume_compressibility are given",
+                 "give Cc, Cr, e0 and the preconsolidation, or m_v, not both.")
+        if o.recompression_index is None:
+            fail("recompression_index", "recompression_index (Cr) is missing beside compression_index",
+                 f"add recompression_index = ... (typically Cc/10 to Cc/5) under "
+                 f"[materials.{m.name}.oedometer].")
+        if e0 is None:
+            fail("void_ratio", "void_ratio (e0) is missing beside compression_index",
+                 f"add void_ratio = ... under [materials.{m.name}.oedometer].")
+        kw.update(compression_index=float(o.compression_index),
+                  recompression_index=float(o.recompression_index), void_ratio=float(e0))
+        preconsolidation()
+    elif o.volume_compressibility is not None:
+        kw["mv"] = float(o.volume_compressibility)
+        if e0 is not None:
+            kw["void_ratio"] = float(e0)
+    elif mcc:
+        if m.lambda_ is None or m.kappa is None:
+            fail("compression_index", "Modified Cam Clay needs lambda and kappa (or oedometer "
+                 "compression_index)", "give lambda and kappa, or the oedometer parameters.",
+                 path=f"materials.{m.name}.{'lambda' if m.lambda_ is None else 'kappa'}")
+        if e0 is None:
+            fail("void_ratio", "void_ratio is missing", f"give void_ratio for material {m.name!r}.",
+                 path=f"materials.{m.name}.void_ratio")
+        cc = float(parameters.cc_from_lambda(m.lambda_))
+        cr = float(parameters.cr_from_kappa(m.kappa))
+        kw.update(compression_index=cc, recompression_index=cr, void_ratio=float(e0))
+        preconsolidation()
+        notes.append(f"{who}: Cc = lambda ln 10 = {cc:.4g}, Cr = kappa ln 10 = {cr:.4g}, "
+                     f"e0 = {e0:g} from the Modified Cam Clay parameters (Schofield & Wroth 1968).")
+    else:
+        partial = [k for k in ("recompression_index", *precon) if getattr(o, k) is not None]
+        if partial:
+            fail("compression_index", f"the oedometer data are incomplete: {', '.join(partial)} "
+                 "given without compression_index", f"add compression_index (Cc) under "
+                 f"[materials.{m.name}.oedometer], or give volume_compressibility instead.")
+        e = elastic_youngs(m)
+        if e is None:
+            fail("compression_index", "no compressibility for the hand method: no oedometer "
+                 "parameters and no elastic stiffness",
+                 f"give compression_index, recompression_index, void_ratio and "
+                 f"overconsolidation_ratio (or volume_compressibility) under "
+                 f"[materials.{m.name}.oedometer], or youngs_modulus.")
+        mv = float(parameters.mv_from_elastic(e, m.poisson_ratio))
+        kw["mv"] = mv
+        if e0 is not None:
+            kw["void_ratio"] = float(e0)
+        given_e = (f"youngs_modulus = {m.youngs_modulus:g} kPa" if m.youngs_modulus is not None
+                   else f"constrained_modulus = {m.constrained_modulus:g} kPa")
+        cv_txt = ("" if o.consolidation_coefficient is not None else
+                  f", c_v = k/(m_v gamma_w) = {k_v / (mv * gamma_w):.4g} m2/day (Terzaghi 1925)")
+        notes.append(f"{who}: no oedometer compressibility given; m_v = 1/E_oed = {mv:.4g} 1/kPa "
+                     f"from {given_e}, poisson_ratio = {m.poisson_ratio:g} (E_oed = E (1 - nu)/"
+                     f"((1 + nu)(1 - 2 nu)), Timoshenko & Goodier 1951){cv_txt}.")
+    if o.consolidation_coefficient is not None:
+        kw["cv"] = float(o.consolidation_coefficient)
+    else:
+        kw["permeability"] = k_v
+    if o.secondary_compression_index is not None:
+        if "void_ratio" not in kw:
+            fail("void_ratio", "void_ratio (e0) is needed with secondary_compression_index",
+                 f"add void_ratio under [materials.{m.name}.oedometer].")
+        kw["secondary_compression_index"] = float(o.secondary_compression_index)
+    # check once, naming the model's fields (settlement.Layer names its own)
+    try:
+        settlement.Layer(thickness=1.0, **kw)
+    except InputError as exc:
+        raise InputError(f"{who}: {exc.message}", field=f"materials.{m.name}.oedometer",
+                         source=src, fix=exc.fix) from None
+    return LayerData(j, ly.name, m, kw, k_v)
+
+
+def mark_free_draining(model: Model, data: list[LayerData], notes: list[str]) -> None:
+    """Apply the free-draining rule (see :data:`FREE_DRAINING_RATIO`) to the model's layers."""
+    k = np.array([d.permeability_v for d in data])
+    if k.size < 2:
+        return
+    candidate = k >= FREE_DRAINING_RATIO * k.min()
+    dr = model.drainage
+    n = len(data)
+    free = np.zeros(n, dtype=bool)
+    if dr.sides:
+        free |= candidate
+    if dr.top:
+        for i in range(n):
+            if not candidate[i]:
+                break
+            free[i] = True
+    if dr.base:
+        for i in range(n - 1, -1, -1):
+            if not candidate[i]:
+                break
+            free[i] = True
+    for d, f in zip(data, free):
+        d.free_draining = bool(f)
+        if f:
+            notes.append(f"layer {d.name!r}: free-draining in the time rate (vertical permeability "
+                         f"{d.permeability_v:.3g} m/day, at least {FREE_DRAINING_RATIO:g} times the "
+                         f"smallest of the layers, {k.min():.3g} m/day, and open to a drained "
+                         "boundary).")
+
+
+# ============================================================================ column
+
+
+@dataclass
+class Column:
+    """The layers under one x, split at the probe depths: hand layers top to bottom."""
+    x: float
+    layers: list[settlement.Layer]
+    data: list[LayerData]          # per hand layer
+    tops: NDArray[np.float64]       # (n + 1,) depths of the layer faces, m
+    free: NDArray[np.bool_]         # (n,)
+    eu: NDArray[np.float64]         # (n,) undrained modulus, kPa (NaN: unknown)
+
+
+def layer_faces(model: Model, x: float, n_layers: int) -> NDArray[np.float64]:
+    """Depths (m) of the top of each model layer and of the base of the model at x."""
+    ext = domain_extent(model)
+    if ext is None:
+        faces = np.concatenate([[0.0], np.cumsum([ly.thickness for ly in model.layers])])
+    else:
+        col = LayerColumn(ext[0], ext[1], np.array([ly.thickness for ly in model.layers], float),
+                          np.array([ly.thickness if ly.thickness_right is None else ly.thickness_right
+                                    for ly in model.layers], float), [])
+        faces = -col.tops(np.array([float(x)]))[0]
+        base = base_elevation(model, x)
+        if base is not None:
+            faces[-1] = -base
+    faces = np.minimum(faces, faces[-1])
+    return faces
+
+
+def build_column(model: Model, data: list[LayerData], x: float, split: Sequence[float]
+                  ) -> Column:
+    faces = layer_faces(model, x, len(data))
+    layers, datas, tops = [], [], [0.0]
+    cuts = sorted(float(d) for d in split)
+    for j, d in enumerate(data):
+        a, b = float(faces[j]), float(faces[j + 1])
+        if b - a <= _TOL:
+            continue
+        edges = [a] + [c for c in cuts if a + _TOL < c < b - _TOL] + [b]
+        for lo, hi in zip(edges, edges[1:]):
+            layers.append(settlement.Layer(thickness=hi - lo, **d.kwargs))
+            datas.append(d)
+            tops.append(hi)
+    if not layers:
+        raise InputError("the hand method needs layers with thickness under the probes",
+                         field="layers", source=model.source, fix="give [[layers]] with thickness.")
+    tops_a = np.array(tops)
+    gw = model.water.unit_weight
+    mid = 0.5 * (tops_a[:-1] + tops_a[1:])
+    s0 = settlement.vertical_effective_stress(mid, layers, model.water.table_depth, gw)
+    eu = np.full(len(layers), np.nan)
+    for i, d in enumerate(datas):
+        m = d.material
+        e = elastic_youngs(m)
+        if e is None and m.model == "modified cam clay" and m.kappa and m.void_ratio:
+            # E' from the swelling line at the mid-depth mean effective stress (Schofield &
+            # Wroth 1968: K = (1 + e0) p' / kappa), E' = 3 K (1 - 2 nu)
+            p0 = max(float(s0[i]), 1e-6) * (1.0 + 2.0 * at_rest_coefficient(m)) / 3.0
+            e = 3.0 * (1.0 + m.void_ratio) * p0 / m.kappa * (1.0 - 2.0 * m.poisson_ratio)
+        if e is not None:
+            eu[i] = 1.5 * e / (1.0 + m.poisson_ratio)
+    free = np.array([d.free_draining for d in datas])
+    return Column(float(x), layers, datas, tops_a, free, eu)
+
+
+# ------------------------------------------------------------------ immediate settlement

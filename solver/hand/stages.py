@@ -1,0 +1,74 @@
+"""The model's stages as the hand method's load history.
+
+:func:`schedule` turns the stages into load pieces ``(start, duration, load name, change of
+factor)``: a lift's weight ramps on over its stage, a load stage ramps the named loads to their
+new factor, a consolidate stage waits. :func:`ramp` is the fraction of a piece applied at given
+times; :func:`default_times` the output times of the settlement histories.
+
+Units: days.
+"""
+
+from __future__ import annotations
+
+from typing import Sequence
+
+import numpy as np
+from numpy.typing import NDArray
+
+from solver.errors import InputError
+from solver.model import Model
+
+from .loads import Load
+
+__all__ = ["schedule", "ramp", "default_times"]
+
+
+def schedule(model: Model, loads: dict[str, Load], notes: list[str]
+              ) -> tuple[list[tuple[float, float, str, float]], dict[str, float], float]:
+    """(pieces (start, duration, load, change of factor), final factors, end of the stages)."""
+    t = 0.0
+    factor = {n: 0.0 for n in loads}
+    pieces = []
+    for i, st in enumerate(model.stages):
+        dur = float(st.duration)
+        if st.kind == "lift":
+            name = f"lift_{st.lift}"
+            if name not in loads:
+                raise InputError(f"stage {st.name!r} places lift {st.lift}, which the embankment "
+                                 "does not have", field=f"stages[{i + 1}].lift", source=model.source,
+                                 fix="place lifts 1, 2, ... of section.embankment.lifts.")
+            pieces.append((t, dur, name, 1.0 - factor[name]))
+            factor[name] = 1.0
+        elif st.kind == "load":
+            for j, name in enumerate(st.loads):
+                if name not in loads:
+                    raise InputError(f"stage {st.name!r} names load {name!r}, never defined",
+                                     field=f"stages[{i + 1}].loads[{j + 1}]", source=model.source,
+                                     fix=f"use one of {sorted(n for n in loads if not n.startswith('lift_'))}.")
+                change = float(st.factor) - factor[name]
+                if change != 0.0:
+                    pieces.append((t, dur, name, change))
+                factor[name] = float(st.factor)
+        elif st.until_degree is not None:
+            notes.append(f"stage {st.name!r} runs its full {dur:g} days here; the FE run ends it "
+                         f"once the average degree of consolidation reaches {st.until_degree:.0%}.")
+        t += dur
+    return pieces, factor, t
+
+
+def ramp(t: NDArray[np.float64], start: float, duration: float) -> NDArray[np.float64]:
+    """Fraction of a piece applied at times t (a sudden piece counts from its start on)."""
+    if duration <= 0.0:
+        return (t >= start).astype(float)
+    return np.clip((t - start) / duration, 0.0, 1.0)
+
+
+def default_times(model: Model, end: float, knots: Sequence[float]) -> NDArray[np.float64]:
+    extra = [t for t in model.output.times if 0.0 <= t <= end]
+    if end > 0.0:
+        grid = np.geomspace(end * 1e-4, end, 241)
+        lin = np.linspace(0.0, end, 121)
+    else:
+        grid = lin = np.zeros(1)
+    return np.unique(np.concatenate([[0.0], grid, lin, extra, list(knots), [end]]))
+
