@@ -394,7 +394,7 @@ def _column_solution(model, col, max_sub, zm, unit, active, pieces, final_factor
     stress_final = sum((final_factor[n] * unit[n] for n in active), np.zeros_like(zm))
     ps = settlement.settlement_under_probe(col.layers, lambda z: stress_final, model.water.table_depth,
                                            max_sublayer_thickness=max_sub, gamma_w=gw)
-    if ps.z_mid_m.size != zm.size or not np.allclose(ps.z_mid_m, zm):
+    if ps.mid.size != zm.size or not np.allclose(ps.mid, zm):
         raise AssertionError("sublayers differ")       # the same split_layers call
     history = [rate.LoadPiece(t0, dur, change * unit[name]) for (t0, dur, name, change) in pieces]
     res = None
@@ -415,7 +415,7 @@ def _probe_estimate(model, pr, d, col, sol, j, final_2to1, loads, active, pieces
     """Everything for one probe at depth d; ``sol`` is its column's solution, ``j`` the index
     of d in ``sol.depths``."""
     ps, res = sol.ps, sol.res
-    below = ps.z_top_m >= d - 1e-9
+    below = ps.top >= d - 1e-9
     cons_final = float(np.sum(ps.settlement_m[below]))
     first_layer = int(ps.layer_index[int(np.argmax(below))]) if below.any() else len(col.layers)
     n_t = t_out.size
@@ -454,7 +454,7 @@ def _probe_estimate(model, pr, d, col, sol, j, final_2to1, loads, active, pieces
     creeping = below & loaded & np.array([col.layers[i].secondary_compression_index is not None
                                           for i in ps.layer_index])
     if creeping.any() and np.isfinite(t95) and t95 > 0.0:
-        sub_ps = settlement.ProbeSettlement(ps.z_top_m[creeping], ps.z_bottom_m[creeping],
+        sub_ps = settlement.ProbeSettlement(ps.top[creeping], ps.bottom[creeping],
                                             ps.layer_index[creeping] - first_layer,
                                             ps.sigma_v0_kPa[creeping], ps.delta_sigma_kPa[creeping],
                                             ps.sigma_p_kPa[creeping], ps.settlement_m[creeping])
@@ -477,7 +477,7 @@ def _probe_estimate(model, pr, d, col, sol, j, final_2to1, loads, active, pieces
         final_settlement_m=imm_final + cons_final + sec_final, immediate_settlement_m=imm_final,
         consolidation_settlement_m=cons_final, secondary_settlement_m=sec_final,
         t50_days=t50, t90_days=t90, end_of_primary_days=t95, max_excess_pore_pressure_kPa=u_max,
-        depth_m=ps.z_mid_m[below], stress_increase_kPa=ps.delta_sigma_kPa[below],
+        depth_m=ps.mid[below], stress_increase_kPa=ps.delta_sigma_kPa[below],
         stress_increase_2to1_kPa=np.asarray(final_2to1)[below],
         initial_effective_stress_kPa=ps.sigma_v0_kPa[below],
         preconsolidation_pressure_kPa=ps.sigma_p_kPa[below], sublayer_settlement_m=ps.settlement_m[below],

@@ -544,7 +544,7 @@ def probe_consolidation(layers: Sequence[Layer], probe: ProbeSettlement, times: 
     Extra keywords (``depths``, grid controls) go to :func:`layered_consolidation`.
     """
     idx = probe.layer_index
-    hs = probe.thickness_m
+    hs = probe.thickness
     ds = probe.delta_sigma_kPa
     n_sub = hs.size
     mv = np.zeros(n_sub)
@@ -579,7 +579,7 @@ def probe_consolidation(layers: Sequence[Layer], probe: ProbeSettlement, times: 
             raise InputError(f"layer '{layer.name}': permeability (or cv) is missing for the time rate",
                              field=f"layers.{layer.name}.permeability",
                              fix=f"give permeability (m/day) or cv (m2/day) for layer '{layer.name}'")
-    zm = probe.z_mid_m
+    zm = probe.mid
 
     def at_nodes(values: ArrayLike) -> float | Callable[[NDArray[np.float64]], NDArray[np.float64]]:
         a = np.asarray(values, dtype=float)

@@ -356,31 +356,20 @@ def vertical_effective_stress(z: ArrayLike, layers: Sequence[Layer], water_table
 
 
 @dataclass(frozen=True)
-class ProbeSettlement:
+class ProbeSettlement(Sublayers):
     """Primary settlement under one probe, sublayer by sublayer.
 
-    Arrays have shape (n_sublayers,); ``sigma_p_kPa`` is NaN for layers without a
-    preconsolidation pressure and ``layer_index`` points into the layer list.
+    The sublayers (``top``, ``bottom``, ``mid``, ``thickness`` in m, ``layer_index`` into the
+    layer list) with, per sublayer, arrays of shape (n_sublayers,): ``sigma_v0_kPa``,
+    ``delta_sigma_kPa``, ``sigma_p_kPa`` (NaN for layers without a preconsolidation pressure)
+    and ``settlement_m``.
     """
 
-    z_top_m: NDArray[np.float64]
-    z_bottom_m: NDArray[np.float64]
-    layer_index: NDArray[np.int64]
     sigma_v0_kPa: NDArray[np.float64]
     delta_sigma_kPa: NDArray[np.float64]
     sigma_p_kPa: NDArray[np.float64]
     settlement_m: NDArray[np.float64]
     caution: str = field(default=CAUTION)
-
-    @property
-    def z_mid_m(self) -> NDArray[np.float64]:
-        """Mid-depth of each sublayer (m)."""
-        return 0.5 * (self.z_top_m + self.z_bottom_m)
-
-    @property
-    def thickness_m(self) -> NDArray[np.float64]:
-        """Sublayer thickness (m)."""
-        return self.z_bottom_m - self.z_top_m
 
     @property
     def total_settlement_m(self) -> float:
@@ -460,7 +449,7 @@ def secondary_settlement_under_probe(layers: Sequence[Layer], probe: ProbeSettle
     t = np.asarray(t, dtype=float)
     tp = np.broadcast_to(np.asarray(end_of_primary_days, dtype=float), (len(layers),))
     total = np.zeros(t.shape)
-    h = probe.thickness_m
+    h = probe.thickness
     for i, layer in enumerate(layers):
         if layer.secondary_compression_index is None:
             continue

@@ -518,6 +518,16 @@ def _check(load_name: str, value: float, attr: str, what: str, positive: bool = 
                          field=f"loads.{load_name}.{attr}", fix=f"give {what}" + (" > 0" if positive else ""))
 
 
+def _check_fields(load, *specs: tuple[str, str, bool]) -> None:
+    """:func:`_check` each ``(attribute, what it is, must be > 0)`` of a load object."""
+    for attr, what, positive in specs:
+        _check(load.name, getattr(load, attr), attr, what, positive=positive)
+
+
+_CENTRE_XY = (("x_center", "the centre x", False), ("y_center", "the centre y", False))
+_PRESSURE = ("q", "the pressure", False)
+
+
 @dataclass(frozen=True)
 class StripLoad:
     """Uniform strip load (plane strain), infinitely long in y.
@@ -531,9 +541,8 @@ class StripLoad:
     name: str = "strip"
 
     def __post_init__(self) -> None:
-        _check(self.name, self.x_center, "x_center", "the centre line", positive=False)
-        _check(self.name, self.width, "width", "the width")
-        _check(self.name, self.q, "q", "the pressure", positive=False)
+        _check_fields(self, ("x_center", "the centre line", False), ("width", "the width", True),
+                      _PRESSURE)
 
     def stresses(self, x: ArrayLike, z: ArrayLike) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
         """(sigma_z, sigma_x) in kPa, see :func:`uniform_strip_stress`."""
@@ -604,9 +613,8 @@ class EmbankmentLoad:
     _profile: ProfileLoad | None = field(default=None, init=False, repr=False, compare=False)
 
     def __post_init__(self) -> None:
-        _check(self.name, self.x_center, "x_center", "the centre line", positive=False)
-        _check(self.name, self.height, "height", "the fill height")
-        _check(self.name, self.unit_weight, "unit_weight", "the fill unit weight")
+        _check_fields(self, ("x_center", "the centre line", False), ("height", "the fill height", True),
+                      ("unit_weight", "the fill unit weight", True))
         for attr in ("crest_width", "side_slope"):
             v = float(getattr(self, attr))
             if not np.isfinite(v) or v < 0.0:
@@ -634,25 +642,28 @@ class EmbankmentLoad:
 
 
 @dataclass(frozen=True)
-class RectangleLoad:
+class _PlanLoad:
+    """A load placed in plan by its centre ``x_center``, ``y_center`` (m)."""
+
+    x_center: float
+    y_center: float
+
+
+@dataclass(frozen=True)
+class RectangleLoad(_PlanLoad):
     """Uniform pressure on a rectangle in plan.
 
     Attributes: ``x_center``, ``y_center`` (m), ``length_x``, ``width_y`` (m), ``q`` (kPa), ``name``.
     """
 
-    x_center: float
-    y_center: float
     length_x: float
     width_y: float
     q: float
     name: str = "rectangle"
 
     def __post_init__(self) -> None:
-        _check(self.name, self.x_center, "x_center", "the centre x", positive=False)
-        _check(self.name, self.y_center, "y_center", "the centre y", positive=False)
-        _check(self.name, self.length_x, "length_x", "the length along x")
-        _check(self.name, self.width_y, "width_y", "the width along y")
-        _check(self.name, self.q, "q", "the pressure", positive=False)
+        _check_fields(self, *_CENTRE_XY, ("length_x", "the length along x", True),
+                      ("width_y", "the width along y", True), _PRESSURE)
 
     def vertical_stress(self, x: ArrayLike, z: ArrayLike, y: ArrayLike = 0.0) -> NDArray[np.float64]:
         """Vertical stress increase (kPa), see :func:`rectangle_vertical_stress`."""
@@ -661,23 +672,18 @@ class RectangleLoad:
 
 
 @dataclass(frozen=True)
-class CircleLoad:
+class CircleLoad(_PlanLoad):
     """Uniform pressure on a circle in plan.
 
     Attributes: ``x_center``, ``y_center`` (m), ``radius`` (m), ``q`` (kPa), ``name``.
     """
 
-    x_center: float
-    y_center: float
     radius: float
     q: float
     name: str = "circle"
 
     def __post_init__(self) -> None:
-        _check(self.name, self.x_center, "x_center", "the centre x", positive=False)
-        _check(self.name, self.y_center, "y_center", "the centre y", positive=False)
-        _check(self.name, self.radius, "radius", "the radius")
-        _check(self.name, self.q, "q", "the pressure", positive=False)
+        _check_fields(self, *_CENTRE_XY, ("radius", "the radius", True), _PRESSURE)
 
     def vertical_stress(self, x: ArrayLike, z: ArrayLike, y: ArrayLike = 0.0) -> NDArray[np.float64]:
         """Vertical stress increase (kPa), see :func:`circle_vertical_stress`."""
