@@ -260,13 +260,19 @@ class Simulation:
             if m.section.kind == "mesh" and edge not in edges:
                 edge = load.name             # a user mesh: the edge named like the load
             self.tractions.append(Traction(edge, vertical=load.pressure, history=ramp))
+        x_min = float(mesh.points[:, 0].min())
         for ft in m.section.footings:
             ramp = self.ramps[ft.name] = Ramp()
             edge = f"footing_{ft.name}"
             area = np.pi * (ft.width / 2) ** 2 if axi else ft.width
+            # A footing cut by the symmetry line of a half section is modelled by its half
+            # at x >= 0, which carries half the force (a plate of the axisymmetric model
+            # carries the whole, see RigidPlate).
+            x0, x1 = ft.center - ft.width / 2, ft.center + ft.width / 2
+            share = 1.0 if axi else (x1 - max(x0, x_min)) / ft.width
             if ft.rigid:
                 force = ft.force if ft.force is not None else ft.load * area
-                self.plates.append(RigidPlate(edge, force=force, history=ramp))
+                self.plates.append(RigidPlate(edge, force=force * share, history=ramp))
             else:
                 pressure = ft.load if ft.load is not None else ft.force / area
                 self.tractions.append(Traction(edge, vertical=pressure, history=ramp))
