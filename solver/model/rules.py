@@ -1,0 +1,233 @@
+"""The field tables: for every table of a model file, how each field is read and checked
+(its unit kind, an example as a user writes it, its bounds and the advice when it is out of
+them). Reading (:mod:`.read`), checking (:mod:`.checks`) and writing (:mod:`.write`) all walk
+these tables.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from .schema import ANALYSES, LINE_KINDS, MATERIAL_MODELS, SECTION_KINDS, STAGE_KINDS
+
+
+@dataclass(frozen=True)
+class _Rule:
+    """How one field is read and checked.
+
+    kind : a unit kind of :mod:`solver.units` ("length", "pressure", ...), or "int", "text",
+        "bool", "choice", "texts" (list of names), "list:<unit kind>" (list of quantities).
+    example : the field as a user would write it, quoted in fixes.
+    low, high : open (default) or closed bounds on the value; None = unbounded.
+    fix : replaces the default advice for a value out of bounds.
+    attr : dataclass attribute when it differs from the TOML key (None: same).
+    """
+    kind: str
+    example: str
+    low: float | None = None
+    high: float | None = None
+    low_open: bool = True
+    high_open: bool = True
+    choices: tuple[str, ...] = ()
+    fix: str | None = None
+    attr: str | None = None
+
+    def bounds_text(self) -> str:
+        if self.low is not None and self.high is not None:
+            lo = "(" if self.low_open else "["
+            hi = ")" if self.high_open else "]"
+            return f"must lie in {lo}{self.low:g}, {self.high:g}{hi}"
+        if self.low is not None:
+            if self.low == 0:
+                return "must be positive" if self.low_open else "must not be negative"
+            return f"must be {'greater than' if self.low_open else 'at least'} {self.low:g}"
+        if self.high is not None:
+            return f"must be {'less than' if self.high_open else 'at most'} {self.high:g}"
+        return ""
+
+    def violates(self, v: float) -> bool:
+        if self.low is not None and (v <= self.low if self.low_open else v < self.low):
+            return True
+        if self.high is not None and (v >= self.high if self.high_open else v > self.high):
+            return True
+        return False
+
+
+def _r(kind: str, example: str, **kw) -> _Rule:
+    return _Rule(kind, example, **kw)
+
+
+_POS = {"low": 0.0}
+_NONNEG = {"low": 0.0, "low_open": False}
+
+_OEDOMETER_RULES: dict[str, _Rule] = {
+    "compression_index": _r("number", "compression_index = 0.9", **_POS),
+    "recompression_index": _r("number", "recompression_index = 0.09", **_POS),
+    "void_ratio": _r("number", "void_ratio = 2.0", **_POS),
+    "preconsolidation_pressure": _r("pressure", 'preconsolidation_pressure = "60 kPa"', **_POS),
+    "overconsolidation_ratio": _r(
+        "number", "overconsolidation_ratio = 1.5", low=1.0, low_open=False,
+        fix="OCR = sigma'_p / sigma'_v0 is at least 1; a layer with OCR below 1 is still "
+            "consolidating under its own weight, a state the model does not start from; "
+            "write overconsolidation_ratio = 1.0 for a normally consolidated layer"),
+    "preconsolidation_margin": _r("pressure", 'preconsolidation_margin = "20 kPa"', **_NONNEG),
+    "volume_compressibility": _r("compressibility", 'volume_compressibility = "2e-4 1/kPa"',
+                                 **_POS),
+    "consolidation_coefficient": _r("consolidation_coefficient",
+                                    'consolidation_coefficient = "3 m2/year"', **_POS),
+    "secondary_compression_index": _r("number", "secondary_compression_index = 0.02",
+                                      **_NONNEG),
+}
+
+_K_FIX = ("give the permeability (hydraulic conductivity) in m/day or with units, e.g. "
+          "permeability = \"1e-9 m/s\"; use a very small value for a nearly impermeable layer")
+_MATERIAL_RULES: dict[str, _Rule] = {
+    "model": _r("choice", 'model = "linear elastic"', choices=MATERIAL_MODELS),
+    "youngs_modulus": _r("pressure", 'youngs_modulus = "2 MPa"', **_POS),
+    "poisson_ratio": _r(
+        "number", "poisson_ratio = 0.3", low=-1.0, high=0.5,
+        fix="give the drained Poisson's ratio, e.g. poisson_ratio = 0.3; the undrained "
+            "response at first loading comes from the pore water in the coupled analysis, "
+            "so do not use a value near 0.5 to imitate it"),
+    "constrained_modulus": _r("pressure", 'constrained_modulus = "3 MPa"', **_POS),
+    # Shorthand for both directions; not an attribute of Material.
+    "permeability": _r("permeability", 'permeability = "1e-9 m/s"', **_POS, fix=_K_FIX),
+    "permeability_x": _r("permeability", 'permeability_x = "2e-9 m/s"', **_POS, fix=_K_FIX),
+    "permeability_y": _r("permeability", 'permeability_y = "1e-9 m/s"', **_POS, fix=_K_FIX),
+    "unit_weight": _r("unit_weight", 'unit_weight = "18 kN/m3"', **_POS),
+    "saturated_unit_weight": _r("unit_weight", 'saturated_unit_weight = "19 kN/m3"', **_POS),
+    "k0": _r("number", "k0 = 0.6", **_POS,
+             fix="K0 = sigma'_h / sigma'_v is positive, typically 0.4 to 1 (e.g. k0 = 0.6); "
+                 "or leave it out and give friction_angle (K0 = 1 - sin phi')"),
+    "friction_angle": _r("angle", 'friction_angle = "28 deg"', low=0.0, high=60.0,
+                         fix="give the effective friction angle phi' in degrees, between 0 "
+                             "and 60, e.g. friction_angle = \"28 deg\""),
+    "biot_coefficient": _r("number", "biot_coefficient = 1.0", low=0.0, high=1.0,
+                           high_open=False, fix="use biot_coefficient = 1.0 for soils"),
+    "storage": _r("compressibility", 'storage = "0 1/kPa"', **_NONNEG,
+                  fix="use storage = 0 for incompressible water and grains"),
+    "lambda": _r("number", "lambda = 0.3", **_POS, attr="lambda_"),
+    "kappa": _r("number", "kappa = 0.03", **_POS),
+    "M": _r("number", "M = 1.1", **_POS),
+    "void_ratio": _r("number", "void_ratio = 2.0", **_POS),
+    "permeability_change_index": _r("number", "permeability_change_index = 0.5", **_POS),
+}
+
+_LAYER_RULES: dict[str, _Rule] = {
+    "name": _r("text", 'name = "upper_clay"'),
+    "material": _r("text", 'material = "soft_clay"'),
+    "thickness": _r("length", "thickness = 4.0", **_POS),
+    "thickness_right": _r("length", "thickness_right = 5.0", **_POS),
+}
+
+_BERM_RULES: dict[str, _Rule] = {
+    "width": _r("length", "width = 8.0", **_POS),
+    "height": _r("length", "height = 1.5", **_POS),
+}
+
+_EMBANKMENT_RULES: dict[str, _Rule] = {
+    "crest_width": _r("length", "crest_width = 12.0", **_POS),
+    "height": _r("length", "height = 4.5", **_POS),
+    "side_slope": _r("number", "side_slope = 2.0", **_POS,
+                     fix="give the horizontal run per unit rise, e.g. side_slope = 2.0 for "
+                         "1V:2H"),
+    "lifts": _r("list:length", "lifts = [1.5, 1.5, 1.5]", **_POS),
+    "material": _r("text", 'material = "fill"'),
+}
+
+_FOOTING_RULES: dict[str, _Rule] = {
+    "name": _r("text", 'name = "footing_1"'),
+    "center": _r("length", "center = 0.0"),
+    "width": _r("length", "width = 2.0", **_POS),
+    "load": _r("pressure", 'load = "150 kPa"', **_POS,
+               fix="give the vertical pressure on the base, positive downward, e.g. "
+                   "load = \"150 kPa\"; to remove a load use a stage of kind \"load\" with "
+                   "factor = 0"),
+    "force": _r("line_force", 'force = "300 kN/m"', **_POS,
+                fix="give the vertical force on the footing, positive downward"),
+    "embedment": _r("length", "embedment = 1.0", **_NONNEG),
+    "rigid": _r("bool", "rigid = true"),
+}
+
+_LOAD_RULES: dict[str, _Rule] = {
+    "name": _r("text", 'name = "traffic"'),
+    "x_left": _r("length", "x_left = -6.0"),
+    "x_right": _r("length", "x_right = 6.0"),
+    "pressure": _r("pressure", 'pressure = "20 kPa"', **_POS,
+                   fix="give the pressure positive downward, e.g. pressure = \"20 kPa\"; to "
+                       "remove a load use a stage of kind \"load\" with factor = 0"),
+}
+
+_SECTION_RULES: dict[str, _Rule] = {
+    "kind": _r("choice", 'kind = "embankment"', choices=SECTION_KINDS),
+    "width": _r("length", "width = 80.0", **_POS),
+    "depth": _r("length", "depth = 20.0", **_POS),
+    "half": _r("bool", "half = true"),
+    "mesh_size": _r("length", "mesh_size = 1.0", **_POS),
+    "mesh_file": _r("text", 'mesh_file = "site.msh"'),
+}
+
+_WATER_RULES: dict[str, _Rule] = {
+    "table_depth": _r("length", "table_depth = 1.0"),
+    "unit_weight": _r("unit_weight", 'unit_weight = "9.81 kN/m3"', **_POS),
+}
+
+_DRAINAGE_RULES: dict[str, _Rule] = {
+    "top": _r("bool", "top = true"),
+    "base": _r("bool", "base = false"),
+    "sides": _r("bool", "sides = false"),
+    "drained_edges": _r("texts", 'drained_edges = ["top", "sand_base"]'),
+    "fixed_edges": _r("texts", 'fixed_edges = ["bottom"]'),
+    "roller_edges": _r("texts", 'roller_edges = ["left", "right"]'),
+}
+
+_STAGE_RULES: dict[str, _Rule] = {
+    "name": _r("text", 'name = "lift 1"'),
+    "kind": _r("choice", 'kind = "consolidate"', choices=STAGE_KINDS),
+    "duration": _r("time", 'duration = "60 days"', **_POS),
+    "lift": _r("int", "lift = 1", low=1.0, low_open=False),
+    "region": _r("text", 'region = "fill"'),
+    "loads": _r("texts", 'loads = ["footing_1"]'),
+    "factor": _r("number", "factor = 1.0", **_NONNEG,
+                 fix="factor is the fraction of each named load present at the end of the "
+                     "stage: 1 applies it, 0 removes it, 0.5 halves it"),
+    "until_degree": _r("number", 'until_degree = "90 %"', low=0.0, high=1.0,
+                       fix="give the average degree of consolidation as a fraction between 0 "
+                           "and 1 or a percentage, e.g. until_degree = 0.9 or \"90 %\""),
+}
+
+_TIME_STEP_RULES: dict[str, _Rule] = {
+    "first_step": _r("time", 'first_step = "0.5 days"', **_POS),
+    "growth": _r("number", "growth = 2.0", low=1.0, low_open=False),
+    "steps_per_level": _r("int", "steps_per_level = 4", low=1.0, low_open=False),
+    "max_step": _r("time", 'max_step = "1 year"', **_POS),
+}
+
+_PROBE_RULES: dict[str, _Rule] = {
+    "name": _r("text", 'name = "centre"'),
+    "x": _r("length", "x = 0.0"),
+    "y": _r("length", "y = -3.5"),
+}
+
+_LINE_RULES: dict[str, _Rule] = {
+    "name": _r("text", 'name = "surface"'),
+    "x0": _r("length", "x0 = 0.0"),
+    "y0": _r("length", "y0 = 0.0"),
+    "x1": _r("length", "x1 = 40.0"),
+    "y1": _r("length", "y1 = 0.0"),
+    "points": _r("int", "points = 41", low=2.0, low_open=False,
+                 fix="a line needs at least 2 sample points, e.g. points = 41"),
+    "kind": _r("choice", 'kind = "surface"', choices=LINE_KINDS),
+}
+
+_OUTPUT_RULES: dict[str, _Rule] = {
+    "times": _r("list:time", 'times = ["30 days", "1 year", "5 years"]', **_NONNEG),
+    "every_step": _r("bool", "every_step = false"),
+}
+
+_MODEL_RULES: dict[str, _Rule] = {
+    "title": _r("text", 'title = "Road embankment (invented site)"'),
+    "analysis": _r("choice", 'analysis = "plane strain"', choices=ANALYSES),
+}
+_MODEL_TABLES = ("materials", "layers", "section", "water", "drainage", "loads", "stages",
+                 "time_steps", "probes", "lines", "output")
