@@ -22,7 +22,7 @@ from pathlib import Path
 from solver import CAUTION
 from solver.model import check_model, load_model
 from solver.results import probe_summary
-from solver.simulation import run
+from solver.runner import run
 
 MODEL = Path(__file__).with_name("embankment.toml")
 MATERIAL = "upper_clay"            # the softest clay under the embankment

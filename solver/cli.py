@@ -100,6 +100,7 @@ def _mesh(args) -> int:
 
 
 def _run(args) -> int:
+    from .runner import run
     from .simulation import Simulation
     from .model import domain_warnings
     from .model import dump_toml
@@ -114,7 +115,7 @@ def _run(args) -> int:
     print(f"{model.title}: {sim.mesh.n_elements} triangles, {sim.problem.disc.n_dofs} unknowns, "
           f"{len(model.stages)} stages -> {out}/", file=sys.stderr)
     try:
-        result = sim.run(out, resume=args.resume, progress=not args.quiet, model_text=text)
+        result = run(sim, out, resume=args.resume, progress=not args.quiet, model_text=text)
     except KeyboardInterrupt:
         print(f"interrupted: finished steps are kept in {out}/; continue with "
               f"'poroplane run {args.model} -o {out} --resume'", file=sys.stderr)

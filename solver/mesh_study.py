@@ -30,9 +30,10 @@ def compare(coarse, fine) -> list[dict]:
 
 def mesh_study(model, sim, result, backend=None) -> str:
     """Solve on the refined mesh and return a table with a plain verdict line."""
+    from .runner import run
     from .simulation import Simulation
     fine_sim = Simulation(model, mesh=refine(sim.mesh), backend=backend)
-    fine = fine_sim.run()
+    fine = run(fine_sim)
     rows = compare(result, fine)
     lines = [f"Mesh study: {sim.mesh.n_elements} -> {fine_sim.mesh.n_elements} triangles "
              "(every triangle split in four)",

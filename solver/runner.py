@@ -8,12 +8,38 @@ times, so a resumed run ends with the same numbers as an uninterrupted one.
 from __future__ import annotations
 
 import time as _time
+from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
 
 from . import CAUTION, __version__
+from .errors import InputError
 from .fem.biot import State
+from .model import Model
+from .results import ResultWriter, probe_summary
+from .simulation import PROBE_COLUMNS, Simulation
+
+
+@dataclass
+class RunResult:
+    """Probe histories (arrays) and run data; also written to disk when a folder is given.
+
+    ``probes[name][column]`` are arrays over ``time_days``; ``lines[name]`` a list of
+    (time_days, stage, dict of arrays) at output times.
+    """
+    time_days: np.ndarray
+    stage: list[str]
+    probes: dict[str, dict[str, np.ndarray]]
+    lines: dict[str, list]
+    info: dict
+    out_dir: Path | None = None
+
+    def probe(self, name: str) -> dict[str, np.ndarray]:
+        if name not in self.probes:
+            raise InputError(f"no probe named {name!r}; the run has {sorted(self.probes)}",
+                             field="probes")
+        return self.probes[name]
 
 
 class Runner:
@@ -44,8 +70,6 @@ class Runner:
                 sim.ramps[name].set(t0, st.duration, st.factor)
 
     def run(self):
-        from .results import ResultWriter, probe_summary
-        from .simulation import PROBE_COLUMNS, RunResult
         sim, pb, model = self.sim, self.sim.problem, self.sim.model
         wall0 = _time.perf_counter()
         writer = None
@@ -178,7 +202,6 @@ class Runner:
                 "newton_substeps": int(its.size)}
 
     def _arrays(self, state, hist_t, hist, solver=None) -> dict:
-        from .simulation import PROBE_COLUMNS
         names = self.sim.probe_names
         vals = np.array([[hist[n][c] for c in PROBE_COLUMNS] for n in names])  # (np, nc, nt)
         vals = vals.transpose(2, 0, 1) if vals.size else np.zeros((len(hist_t), len(names), 0))
@@ -188,3 +211,11 @@ class Runner:
         if solver is not None and hasattr(solver, "state_arrays"):
             out.update(solver.state_arrays())
         return out
+
+
+def run(model: Model | Simulation, out_dir: str | Path | None = None, *, resume: bool = False,
+        progress: bool = False, model_text: str | None = None) -> RunResult:
+    """Step a model (meshed and set up here) or a set-up :class:`Simulation` through all its
+    stages; stream the results to ``out_dir`` when given. The scripting entry point."""
+    sim = model if isinstance(model, Simulation) else Simulation(model)
+    return Runner(sim, out_dir, resume=resume, progress=progress, model_text=model_text).run()

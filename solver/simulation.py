@@ -1,7 +1,8 @@
 """From a model to results: mesh, boundary conditions, stages, time steps, probes, output.
 
     sim = Simulation(model)          # meshes and sets up; checks names
-    result = sim.run(out_dir=None)   # steps through the stages; returns probe histories
+    result = run(sim, out_dir=None)  # solver.runner: steps through the stages, returns
+                                     # the probe histories (and writes the run folder)
 
 Stages run in order. A ``lift`` stage places its lift stress-free at the stage start and ramps
 its weight on over the stage; a ``load`` stage ramps the named loads to ``factor`` (a stage of
@@ -12,9 +13,6 @@ ground under it drains through it.
 """
 
 from __future__ import annotations
-
-from dataclasses import dataclass
-from pathlib import Path
 
 import numpy as np
 
@@ -91,27 +89,6 @@ PROBE_COLUMNS = ("settlement_m", "horizontal_displacement_m", "excess_pore_press
                  "total_pore_pressure_kPa", "vertical_effective_stress_kPa",
                  "horizontal_effective_stress_kPa", "out_of_plane_effective_stress_kPa",
                  "shear_stress_kPa")
-
-
-@dataclass
-class RunResult:
-    """Probe histories (arrays) and run data; also written to disk when a folder is given.
-
-    ``probes[name][column]`` are arrays over ``time_days``; ``lines[name]`` a list of
-    (time_days, stage, dict of arrays) at output times.
-    """
-    time_days: np.ndarray
-    stage: list[str]
-    probes: dict[str, dict[str, np.ndarray]]
-    lines: dict[str, list]
-    info: dict
-    out_dir: Path | None = None
-
-    def probe(self, name: str) -> dict[str, np.ndarray]:
-        if name not in self.probes:
-            raise InputError(f"no probe named {name!r}; the run has {sorted(self.probes)}",
-                             field="probes")
-        return self.probes[name]
 
 
 class Simulation:
@@ -453,15 +430,3 @@ class Simulation:
                 prev = t
             times = np.array(out)
         return times
-
-    def run(self, out_dir: str | Path | None = None, resume: bool = False,
-            progress: bool = False, model_text: str | None = None) -> RunResult:
-        """Step through all stages; stream results to ``out_dir`` when given."""
-        from .runner import Runner
-        return Runner(self, out_dir, resume=resume, progress=progress,
-                      model_text=model_text).run()
-
-
-def run(model: Model, out_dir: str | Path | None = None, **kw) -> RunResult:
-    """Mesh, solve and return the probe histories of a model (the scripting entry point)."""
-    return Simulation(model).run(out_dir, **kw)

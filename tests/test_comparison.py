@@ -15,7 +15,7 @@ from types import SimpleNamespace
 import numpy as np
 import pytest
 
-from solver import CAUTION, simulation
+from solver import CAUTION, runner
 from solver.comparison import (COLUMNS, REASONS, RATIO_TOLERANCE, add_comparison, compare,
                                compare_run_dir, comparison_section, format_table, hand_report,
                                write_comparison_csv)
@@ -132,7 +132,7 @@ def test_run_folder_comparison(tmp_path):
     # the invented 1D column, written as a run folder, compared again from the folder
     m = column_model(wait=100.0)
     out = tmp_path / "run"
-    result = simulation.run(m, out, model_text=dump_toml(m))
+    result = runner.run(m, out, model_text=dump_toml(m))
     table = compare_run_dir(out)
     assert "top" in table and "mid" in table and CAUTION in table
     rows, message = add_comparison(m, result.probes, out)

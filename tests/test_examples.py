@@ -12,7 +12,8 @@ import pytest
 
 from solver.model import load_model
 from solver.results import probe_summary
-from solver.simulation import Simulation, run
+from solver.runner import run
+from solver.simulation import Simulation
 
 EXAMPLES = Path(__file__).resolve().parents[1] / "examples"
 MODEL_FILES = sorted(EXAMPLES.glob("*.toml"))

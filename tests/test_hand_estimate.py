@@ -15,7 +15,7 @@ from dataclasses import replace
 import numpy as np
 import pytest
 
-from solver import CAUTION, simulation
+from solver import CAUTION, runner, simulation
 from solver.analytic import olson_ramp_average_degree, terzaghi_average_degree
 from solver.errors import InputError
 from solver.hand import rate, settlement, stress
@@ -123,7 +123,7 @@ def test_hand_column_equals_fe_column_within_one_percent():
     # rollers) and by the hand method (m_v = 1/E_oed, c_v = k/(m_v gamma_w); Terzaghi 1925).
     E, nu, H, q = 2000.0, 0.3, 10.0, 50.0
     m = column_model(E=E, nu=nu, H=H, q=q)
-    fe = simulation.run(m)
+    fe = runner.run(m)
     t = fe.probes["top"]["time_days"]
     hand = hand_estimate(m, times=t)
     p = hand.probes["top"]

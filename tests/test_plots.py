@@ -16,7 +16,7 @@ from PIL import Image
 
 from solver import CAUTION
 from solver.model import dump_toml, load_model, model_from_toml
-from solver.simulation import run
+from solver.runner import run
 
 ROOT = Path(__file__).resolve().parents[1]
 
