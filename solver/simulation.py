@@ -85,6 +85,8 @@ def fe_material(m: Material, gamma_w: float) -> ElasticMaterial:
                      field=f"materials.{m.name}", fix="give youngs_modulus in kPa.")
 
 
+FOOTING_COLUMNS = ("settlement_m", "tilt_rad")
+
 PROBE_COLUMNS = ("settlement_m", "horizontal_displacement_m", "excess_pore_pressure_kPa",
                  "total_pore_pressure_kPa", "vertical_effective_stress_kPa",
                  "horizontal_effective_stress_kPa", "out_of_plane_effective_stress_kPa",
@@ -244,12 +246,14 @@ class Simulation:
             area = np.pi * (ft.width / 2) ** 2 if axi else ft.width
             # A footing cut by the symmetry line of a half section is modelled by its half
             # at x >= 0, which carries half the force (a plate of the axisymmetric model
-            # carries the whole, see RigidPlate).
+            # carries the whole, see RigidPlate); it cannot tilt (symmetry).
             x0, x1 = ft.center - ft.width / 2, ft.center + ft.width / 2
+            cut = not axi and x0 < x_min - 1e-9 * ft.width
             share = 1.0 if axi else (x1 - max(x0, x_min)) / ft.width
             if ft.rigid:
                 force = ft.force if ft.force is not None else ft.load * area
-                self.plates.append(RigidPlate(edge, force=force * share, history=ramp))
+                self.plates.append(RigidPlate(edge, force=force * share, history=ramp,
+                                              rotation=not (axi or cut), center=ft.center))
             else:
                 pressure = ft.load if ft.load is not None else ft.force / area
                 self.tractions.append(Traction(edge, vertical=pressure, history=ramp))
@@ -315,6 +319,22 @@ class Simulation:
         self._probe_B = self._b_at(elem, ref)
         self._probe_init = self._geostatic(pts[:, 0], pts[:, 1]) if len(pts) \
             else None
+        # Footings: the two ends and the centre of each base (clipped to the mesh in a half
+        # section), for their settlement and tilt.
+        fts = m.section.footings
+        self.footing_names = [f.name for f in fts]
+        x_min = float(mesh.points[:, 0].min())
+        fpts = np.array([[max(x, x_min), -f.embedment] for f in fts
+                         for x in (f.center - f.width / 2, f.center, f.center + f.width / 2)],
+                        float).reshape(-1, 2)
+        fe, fr = mesh.locate(fpts, tol=1e-7) if len(fpts) else (np.zeros(0, int),
+                                                                 np.zeros((0, 2)))
+        self._footing_elem, self._footing_N = fe, element.p2(fr)[0]
+        self._footing_width = np.array([f.width for f in fts], float)
+        self._footing_share = np.array([
+            1.0 if m.analysis == "axisymmetric" else
+            (f.center + f.width / 2 - max(f.center - f.width / 2, x_min)) / f.width
+            for f in fts], float)
         self.lines = []
         for ln in m.lines:
             s = np.linspace(0.0, 1.0, ln.points)
@@ -367,6 +387,21 @@ class Simulation:
             "out_of_plane_effective_stress_kPa": g["horizontal_effective_kPa"] - dsig[:, 2],
             "shear_stress_kPa": dsig[:, 3],
         }
+
+    def footing_values(self, state: State) -> dict[str, np.ndarray]:
+        """Each footing's settlement at the centre of its base (m, downward positive) and its
+        tilt (rad): (settlement of the edge at larger x - that of the other edge) / width,
+        positive when the footing leans towards +x. A rigid footing's base stays straight, so
+        its tilt is its rotation; a footing cut by a symmetry line does not tilt. Arrays
+        (n_footings,) in the order of ``footing_names``."""
+        if not self.footing_names:
+            return {c: np.zeros(0) for c in FOOTING_COLUMNS}
+        e, N, share = self._footing_elem, self._footing_N, self._footing_share
+        uy = np.einsum("na,na->n", N, state.displacement()[self.mesh.triangles[e], 1])
+        uy = uy.reshape(-1, 3)                               # (nf, [left, centre, right])
+        s = -uy
+        tilt = np.where(share < 1.0, 0.0, (s[:, 2] - s[:, 0]) / self._footing_width)
+        return {"settlement_m": s[:, 1], "tilt_rad": tilt}
 
     def line_values(self, state: State) -> dict[str, dict[str, np.ndarray]]:
         pb, mesh = self.problem, self.mesh

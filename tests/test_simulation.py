@@ -102,7 +102,7 @@ def footing_model(footings, width=120.0):
                  probes=[PointProbe(f.name, f.center, 0.0) for f in footings])
 
 
-def test_two_footings_far_apart_settle_like_one_alone_and_a_rigid_base_moves_as_one():
+def test_two_footings_far_apart_settle_like_one_alone_and_a_rigid_base_stays_straight():
     # Superposition sanity (linear elasticity, common practice): a second footing 40 m away
     # (20 footing widths) barely changes the first one's settlement.
     a = Footing("A", center=-20.0, width=2.0, load=150.0)
@@ -113,12 +113,13 @@ def test_two_footings_far_apart_settle_like_one_alone_and_a_rigid_base_moves_as_
     s_alone = alone.probe("A")["settlement_m"][-1]
     s_both = both.probe("A")["settlement_m"][-1]
     assert abs(s_both - s_alone) < 0.02 * s_alone
-    # The heavier footing settles more; a rigid base moves as one (the tie).
+    # The heavier footing settles more; a rigid base stays straight (it may tilt: the tie).
     assert both.probe("A")["settlement_m"][-1] > both.probe("B")["settlement_m"][-1]
     nodes = both_sim.mesh.edge_nodes("footing_A")
     st = both_sim.problem.drained_state(1e9)
     uy = st.displacement()[nodes, 1]
-    assert np.ptp(uy) < 1e-12 * np.abs(uy).max()
+    x = both_sim.mesh.points[nodes, 0]
+    assert np.abs(np.polyval(np.polyfit(x, uy, 1), x) - uy).max() < 1e-12 * np.abs(uy).max()
 
 
 def test_a_region_of_a_user_mesh_is_placed_by_a_stage_and_its_weight_settles_the_ground():

@@ -11,9 +11,10 @@ grad N_p. The matrix is symmetric quasi-definite for dt > 0; dt = 0 gives the un
 at the instant a load is applied (Q^T du + S M dp = 0).
 
 Constraints enter through one map T from reduced to full unknowns, x = T y + x_D: fixed values
-leave the system, and every node of a rigid plate shares one vertical displacement (one column
-of T), on which the plate's total force acts. A_red = T^T A T, formed by selecting CSR entries
-(see :class:`Constraints`), never by sparse products.
+leave the system, and the nodes of a rigid plate share its vertical displacement w and, when
+the plate may rotate, its rotation theta: u_y = w + theta (x - x_c) (two columns of T), on
+which the plate's total force and the moment about x_c act. A_red = T^T A T, formed by
+selecting CSR entries (see :class:`Constraints`), never by sparse products.
 """
 
 from __future__ import annotations
@@ -57,14 +58,23 @@ class Traction:
 
 @dataclass
 class RigidPlate:
-    """All nodes of a named edge share one vertical displacement carrying ``force``.
+    """The nodes of a named (horizontal) edge move vertically as one rigid body.
 
     ``force`` is compressive (downward) positive: kN per m run in plane strain, kN in total
-    over the full circle in axisymmetry. ``history`` scales it in time.
+    over the full circle in axisymmetry. With ``rotation`` (plane strain only) the plate may
+    also tilt about x = ``center`` (None: the middle of the edge): u_y = w + theta (x - x_c),
+    theta counterclockwise; ``moment`` (kNm per m run, counterclockwise positive, about x_c)
+    is the moment it carries, so a downward force P at x_c + e is ``force`` P with
+    ``moment`` -P e. Without ``rotation`` the plate cannot tilt and carries whatever moment
+    that takes (the right condition on a symmetry line). ``history`` scales force and moment.
+    The horizontal displacements of the nodes stay free (a smooth base).
     """
     edge: str
     force: float = 0.0
     history: History = constant
+    rotation: bool = False
+    center: float | None = None
+    moment: float = 0.0
 
 
 @dataclass
@@ -120,6 +130,7 @@ class BiotProblem:
         self._body = [(bf, self.disc.body_force_vector(
             np.zeros(ne), -bf.unit_weight * (self.mesh.region == self.mesh.region_id(bf.region))))
             for bf in self.body_forces]
+        self._plate_slots()
         self._assemble()
         self._constrain()
         self.version = 0   # bumped whenever the matrix changes (activation)
@@ -140,6 +151,31 @@ class BiotProblem:
             self._edge(name, "drained")
         for r in self.drained_regions:
             self.mesh.region_id(r)
+
+    def _plate_slots(self):
+        """Reduced unknowns of the plates, in order: w of plate 0, theta of plate 0 (when it
+        rotates), w of plate 1, ... (``plate_w``, ``plate_theta``: slot of each plate, -1 for
+        none), the rotation centres ``plate_center`` (x, m) and ``plate_lever``, the largest
+        distance of a plate node from its centre (m)."""
+        self.plate_w = np.zeros(len(self.plates), dtype=int)
+        self.plate_theta = np.full(len(self.plates), -1)
+        self.plate_center = np.zeros(len(self.plates))
+        self.plate_lever = np.ones(len(self.plates))
+        k = 0
+        for i, pl in enumerate(self.plates):
+            x = self.mesh.points[np.unique(self._edge(pl.edge, "plates")), 0]
+            self.plate_center[i] = 0.5 * (x.min() + x.max()) if pl.center is None else pl.center
+            self.plate_lever[i] = max(np.abs(x - self.plate_center[i]).max(), 1e-300)
+            self.plate_w[i] = k
+            k += 1
+            if pl.rotation:
+                if self.analysis != PLANE_STRAIN:
+                    raise InputError(f"rigid plate on {pl.edge!r}: a rotation unknown needs "
+                                     "plane strain (an axisymmetric plate cannot tilt)",
+                                     field="plates", fix="set rotation = False.")
+                self.plate_theta[i] = k
+                k += 1
+        self.n_plate_unknowns = k
 
     def _edge(self, name: str, kind: str) -> np.ndarray:
         if name not in self.mesh.edges:
@@ -224,7 +260,9 @@ class BiotProblem:
 
     # ----------------------------------------------------------- loads
     def external_force(self, t: float, placed: bool = True) -> np.ndarray:
-        """Full-size force vector at time t (pressure rows zero) and plate forces (n_plates,).
+        """Full-size force vector at time t (pressure rows zero) and the generalised forces of
+        the plate unknowns (n_plate_unknowns,): each plate's vertical force (upward positive)
+        and, for a plate that rotates, its counterclockwise moment.
 
         ``placed`` adds the force that keeps placed elements stress-free (the linear path;
         the incremental Newton path needs none).
@@ -249,7 +287,12 @@ class BiotProblem:
                 return t_
             f[:d.n_u] += d.edge_traction_vector(seg, traction)
         per = 1.0 / (2 * np.pi) if d.axisymmetric else 1.0
-        plate = np.array([-pl.force * pl.history(t) * per for pl in self.plates])
+        plate = np.zeros(self.n_plate_unknowns)
+        for i, pl in enumerate(self.plates):
+            s = pl.history(t)
+            plate[self.plate_w[i]] = -pl.force * s * per
+            if self.plate_theta[i] >= 0:
+                plate[self.plate_theta[i]] = pl.moment * s
         return f, plate
 
     # ---------------------------------------------------------- output
@@ -309,10 +352,12 @@ class Constraints:
     """The map between all unknowns x and the reduced unknowns y of the solved system.
 
     ``red[i]`` is the reduced index of unknown i, -1 where its value is prescribed
-    (``x_fixed``); the unknowns of a rigid plate share one reduced index, numbered after all
-    others. Reducing the matrix keeps, in order, the entries of the CSR data whose row and
-    column are both plain unknowns (no sorting: ``red`` is increasing on them), and sums the
-    few entries that touch a plate into the plate's row and column.
+    (``x_fixed``). The vertical unknowns of a rigid plate share its w (``red``, coefficient 1)
+    and, for a plate that rotates, its theta (``red2``, coefficient ``coef2`` = x - x_c; -1
+    elsewhere); the plate unknowns are numbered after all others (``plate_dof``). Reducing the
+    matrix keeps, in order, the entries of the CSR data whose row and column are both plain
+    unknowns (no sorting: ``red`` is increasing on them), and sums the few entries that touch
+    a plate, times their coefficients, into the plate's rows and columns.
     """
     red: np.ndarray
     n_reduced: int
@@ -322,9 +367,12 @@ class Constraints:
     keep: np.ndarray          # CSR data positions of plain-plain entries
     keep_indptr: np.ndarray
     keep_indices: np.ndarray
-    tie: np.ndarray           # CSR data positions of entries touching a plate
+    tie: np.ndarray           # CSR data positions of entries touching a plate (repeated)
     tie_rows: np.ndarray
     tie_cols: np.ndarray
+    tie_scale: np.ndarray     # product of the row and column coefficients
+    red2: np.ndarray
+    coef2: np.ndarray
     ordering: object = None
 
     @property
@@ -332,24 +380,38 @@ class Constraints:
         return bool(np.any(self.x_fixed != 0))
 
     def reduce(self, data: np.ndarray) -> sp.csr_matrix:
-        """Reduced CSR matrix from the full matrix's CSR data (same pattern as A0)."""
+        """Reduced CSR matrix T^T A T from the full matrix's CSR data (same pattern as A0)."""
         n = self.n_reduced
         R = sp.csr_matrix((data[self.keep], self.keep_indices, self.keep_indptr), shape=(n, n))
         if self.tie.size:
-            R = (R + sp.coo_matrix((data[self.tie], (self.tie_rows, self.tie_cols)),
-                                   shape=(n, n)).tocsr()).tocsr()
+            R = (R + sp.coo_matrix((data[self.tie] * self.tie_scale,
+                                    (self.tie_rows, self.tie_cols)), shape=(n, n)).tocsr()).tocsr()
         return R
 
     def restrict(self, f: np.ndarray) -> np.ndarray:
         """T^T f: sum full-size forces into the reduced unknowns."""
         ok = self.red >= 0
-        return np.bincount(self.red[ok], weights=f[ok], minlength=self.n_reduced)
+        out = np.bincount(self.red[ok], weights=f[ok], minlength=self.n_reduced)
+        rot = self.red2 >= 0
+        if rot.any():
+            out += np.bincount(self.red2[rot], weights=f[rot] * self.coef2[rot],
+                               minlength=self.n_reduced)
+        return out
+
+    def apply(self, y: np.ndarray) -> np.ndarray:
+        """T y: full-size unknowns from reduced ones (prescribed values not added)."""
+        x = np.zeros(self.red.size)
+        ok = self.red >= 0
+        x[ok] = y[self.red[ok]]
+        rot = self.red2 >= 0
+        x[rot] += self.coef2[rot] * y[self.red2[rot]]
+        return x
 
     def expand(self, y: np.ndarray) -> np.ndarray:
         """T y + x_fixed."""
-        x = self.x_fixed.copy()
-        ok = self.red >= 0
-        x[ok] = y[self.red[ok]]
+        x = self.apply(y)
+        fixed = self.red < 0
+        x[fixed] = self.x_fixed[fixed]
         return x
 
     @classmethod
@@ -382,27 +444,36 @@ class Constraints:
                 nodes = np.unique(pb._edge(name, "drained"))
                 pdofs = d.n_u + pb.mesh.pressure_index[nodes]
                 fixed[pdofs[pdofs >= d.n_u]] = True
-        master = np.full(n, -1)
+        master = np.full(n, -1)          # plate slot of w for tied unknowns
+        slot2 = np.full(n, -1)           # plate slot of theta
+        coef2 = np.zeros(n)
         for i, pl in enumerate(pb.plates):
-            dofs = 2 * np.unique(pb._edge(pl.edge, "plates")) + 1
+            nodes = np.unique(pb._edge(pl.edge, "plates"))
+            dofs = 2 * nodes + 1
             if fixed[dofs].any():
                 raise InputError(f"rigid plate on {pl.edge!r} has vertically fixed nodes",
                                  field="plates", fix="do not fix the plate edge vertically.")
             if (master[dofs] >= 0).any():
                 raise InputError(f"rigid plate on {pl.edge!r} overlaps another plate",
                                  field="plates", fix="give each plate its own edge.")
-            master[dofs] = i
+            master[dofs] = pb.plate_w[i]
+            if pb.plate_theta[i] >= 0:
+                slot2[dofs] = pb.plate_theta[i]
+                coef2[dofs] = pb.mesh.points[nodes, 0] - pb.plate_center[i]
         plain = ~fixed & (master < 0)
         n_free = int(plain.sum())
         red = np.full(n, -1)
         red[plain] = np.arange(n_free)
         tied = master >= 0
         red[tied] = n_free + master[tied]
-        n_red = n_free + len(pb.plates)
-        # The node each reduced unknown lives on (a plate's unknown: its first node), for
-        # orderings computed on the node graph.
+        red2 = np.where(slot2 >= 0, n_free + slot2, -1)
+        n_slots = pb.n_plate_unknowns
+        n_red = n_free + n_slots
+        # The node each reduced unknown lives on (a plate's unknowns: a node of the plate),
+        # for orderings computed on the node graph.
         node = np.empty(n_red, dtype=np.int64)
         node[red[red >= 0]] = d.node_of_dof[red >= 0]
+        node[red2[red2 >= 0]] = d.node_of_dof[red2 >= 0]
         # Classify the CSR entries of the full pattern.
         A = pb.A0
         rows = np.repeat(np.arange(n), np.diff(A.indptr))
@@ -413,9 +484,19 @@ class Constraints:
                                                                  minlength=n_red))])
         touch = ~both_plain & (red[rows] >= 0) & (red[cols] >= 0)
         tie = np.flatnonzero(touch)
-        return cls(red, n_red, x_fixed, n_free + np.arange(len(pb.plates)), node,
-                   keep, keep_indptr, red[cols[keep]].astype(np.int32), tie, red[rows[tie]],
-                   red[cols[tie]])
+        # Each entry touching a plate goes to (row index, column index) for each of the (at
+        # most two) reduced unknowns of its row and of its column, times both coefficients.
+        tr, tc = rows[tie], cols[tie]
+        parts = [(tie, red[tr], red[tc], np.ones(tie.size))]
+        r2, c2 = red2[tr] >= 0, red2[tc] >= 0
+        parts.append((tie[r2], red2[tr[r2]], red[tc[r2]], coef2[tr[r2]]))
+        parts.append((tie[c2], red[tr[c2]], red2[tc[c2]], coef2[tc[c2]]))
+        b2 = r2 & c2
+        parts.append((tie[b2], red2[tr[b2]], red2[tc[b2]], coef2[tr[b2]] * coef2[tc[b2]]))
+        tie_pos, tie_rows, tie_cols, tie_scale = (np.concatenate(z) for z in zip(*parts))
+        return cls(red, n_red, x_fixed, n_free + np.arange(n_slots), node,
+                   keep, keep_indptr, red[cols[keep]].astype(np.int32), tie_pos, tie_rows,
+                   tie_cols, tie_scale, red2, coef2)
 
 
 @dataclass

@@ -71,7 +71,7 @@ class NewtonStepSolver:
                     for r in mesh.region_names}
         self.stress = stress0.copy()          # committed effective stress (ne, nq, 4)
         self.f_prev = np.zeros(d.n_dofs)      # external force of the last converged step
-        self.plate_prev = np.zeros(len(problem.plates))
+        self.plate_prev = np.zeros(problem.n_plate_unknowns)
         self.records: list[StepRecord] = []
         self.factor_seconds = 0.0
         self.n_factorizations = 0
@@ -171,6 +171,10 @@ class NewtonStepSolver:
             free = ~fixed
             ru = np.abs(r[c.red[:n_u][free[:n_u]]]).max(initial=0.0)
             rp = np.abs(r[c.red[n_u:][free[n_u:]]]).max(initial=0.0) if free[n_u:].any() else 0.0
+            th = pb.plate_theta >= 0
+            if th.any():      # moment residuals of tilting plates, as forces at their edges
+                ru = max(ru, (np.abs(r[c.plate_dof[pb.plate_theta[th]]])
+                              / pb.plate_lever[th]).max())
             ref_u = max(np.abs(f_ext[:n_u]).max(initial=0.0), np.abs(F_int).max(initial=0.0),
                         np.abs(Qp).max(initial=0.0), np.abs(plate).max(initial=0.0), 1e-12)
             # Scale of the flow terms from their magnitudes (they cancel at the solution).
@@ -200,8 +204,7 @@ class NewtonStepSolver:
             self.factor_seconds += fac.factor_seconds
             self.n_factorizations += 1
             dy = fac.solve(r)
-            ok = c.red >= 0
-            x[ok] += dy[c.red[ok]]
+            x += c.apply(dy)
 
     # --------------------------------------------------------- checkpoint
     def state_arrays(self) -> dict[str, np.ndarray]:
