@@ -14,8 +14,8 @@ from .domain import _is_half, _outside, domain_extent, domain_warnings
 from .fields import _join, _key, _Reader, _suggest
 from .rules import (_BERM_RULES, _DRAINAGE_RULES, _EMBANKMENT_RULES, _FOOTING_RULES,
                     _LAYER_RULES, _LINE_RULES, _LOAD_RULES, _MATERIAL_RULES, _MODEL_RULES,
-                    _OEDOMETER_RULES, _OUTPUT_RULES, _PROBE_RULES, _SECTION_RULES,
-                    _STAGE_RULES, _TIME_STEP_RULES, _WATER_RULES, _Rule)
+                    _OEDOMETER_RULES, _OUTPUT_RULES, _POSITIVE_DURATION, _PROBE_RULES,
+                    _SECTION_RULES, _STAGE_RULES, _TIME_STEP_RULES, _WATER_RULES, _Rule)
 from .schema import _REL_TOL, Embankment, Layer, Material, Model
 
 def _fail(model: Model, message: str, path: str | None, fix: str) -> None:
@@ -397,6 +397,8 @@ def _check_stages(model: Model) -> None:
     for i, st in enumerate(model.stages):
         p = f"stages[{i + 1}]"
         _check_fields(model, st, p, _STAGE_RULES)
+        if st.kind != "load":
+            _check_value(model, st.duration, f"{p}.duration", _POSITIVE_DURATION)
         if st.kind != "lift" and st.lift is not None:
             _fail(model, f"lift is given for a stage of kind {st.kind!r}", f"{p}.lift",
                   "set kind = \"lift\" to place a lift, or remove lift.")

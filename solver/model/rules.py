@@ -184,7 +184,9 @@ _DRAINAGE_RULES: dict[str, _Rule] = {
 _STAGE_RULES: dict[str, _Rule] = {
     "name": _r("text", 'name = "lift 1"'),
     "kind": _r("choice", 'kind = "consolidate"', choices=STAGE_KINDS),
-    "duration": _r("time", 'duration = "60 days"', **_POS),
+    # Zero only for a "load" stage (applied at once); the other kinds are checked against
+    # _POSITIVE_DURATION in checks.py.
+    "duration": _r("time", 'duration = "60 days"', **_NONNEG),
     "lift": _r("int", "lift = 1", low=1.0, low_open=False),
     "region": _r("text", 'region = "fill"'),
     "loads": _r("texts", 'loads = ["footing_1"]'),
@@ -195,6 +197,11 @@ _STAGE_RULES: dict[str, _Rule] = {
                        fix="give the average degree of consolidation as a fraction between 0 "
                            "and 1 or a percentage, e.g. until_degree = 0.9 or \"90 %\""),
 }
+
+_POSITIVE_DURATION = _r("time", 'duration = "60 days"', **_POS,
+                        fix='give the stage a duration, e.g. duration = "60 days"; only a stage '
+                            'of kind "load" may last 0 days (its loads applied at once, felt '
+                            'undrained)')
 
 _TIME_STEP_RULES: dict[str, _Rule] = {
     "first_step": _r("time", 'first_step = "0.5 days"', **_POS),

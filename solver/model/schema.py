@@ -193,7 +193,8 @@ class Stage:
     ``region``: its elements become active, stress-free, and their weight ramps on over the
     duration), "load" (ramp the named loads/footings by ``factor`` over the duration: 1
     applies, 0 removes, 0.5 halves), or "consolidate" (nothing changes).
-    duration : days (for "consolidate" with ``until_degree``: the longest it may last).
+    duration : days (for "consolidate" with ``until_degree``: the longest it may last); 0
+    only for "load": the loads change at once and are felt undrained.
     until_degree : stop a "consolidate" stage once the average degree of consolidation
     reaches this fraction (0.9 = 90 %).
     """
