@@ -38,6 +38,8 @@ from typing import Sequence
 
 import numpy as np
 
+from .plot_style import finish, pick_times
+
 __all__ = ["make_pictures", "picture_command", "rendering_available", "RenderingUnavailable",
            "mesh_picture", "field_picture", "exaggeration_factor"]
 
@@ -365,8 +367,7 @@ def _frame(img: np.ndarray, view: _View, title: str, xlabel: str, extra_h: float
 
 
 def _finish(fig, path: Path, note: str = "") -> Path:
-    from .plots import _finish as finish_plot
-    return finish_plot(fig, path, note, tight=True)
+    return finish(fig, path, note, tight=True)
 
 
 def _xlabel(model) -> str:
@@ -614,7 +615,6 @@ def make_pictures(run_dir: str | Path, out_dir: str | Path | None = None,
     Without working off-screen rendering nothing is drawn: a :class:`RenderingUnavailable`
     warning says why and what to install, and the list is empty.
     """
-    from .plots import pick_times
     from .results import read_fields
     d = Path(run_dir)
     out = Path(out_dir) if out_dir is not None else d / PICTURES_DIR

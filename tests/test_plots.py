@@ -71,18 +71,18 @@ def notes() -> list[str]:
 @pytest.fixture(scope="module")
 def plot_paths(run_dir, notes) -> list[Path]:
     """All plots of the run; the text written on each figure is kept in ``notes``."""
-    from solver import plots
-    real = plots._finish
+    from solver import plot_style, plots
+    real = plot_style.finish
 
     def spy(fig, path, note="", tight=False):
         out = real(fig, path, note, tight)
         notes.append(" ".join(" ".join(t.get_text() for t in fig.texts).split()))
         return out
-    plots._finish = spy
+    plot_style.finish = spy
     try:
         return plots.make_plots(run_dir)
     finally:
-        plots._finish = real
+        plot_style.finish = real
 
 
 def test_every_plot_is_made_and_is_a_real_picture(run_dir, plot_paths):
