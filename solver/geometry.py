@@ -1,4 +1,5 @@
-"""Gmsh builders for parametric sections, returning a :class:`~solver.mesh.Mesh`.
+"""Gmsh builders for parametric sections, returning a :class:`~solver.mesh.Mesh`, and the
+reading of a user's mesh or geometry file (a ``.geo`` is meshed here, by Gmsh).
 
 Coordinates: x horizontal (or radius), y elevation, up positive, in m. Every builder names its
 regions (physical surfaces) and edges (physical curves); second-order (6-node) triangles.
@@ -13,7 +14,7 @@ from typing import Callable, Sequence
 import numpy as np
 
 from .errors import MeshError
-from .mesh import Mesh, assemble_mesh
+from .mesh import Mesh, assemble_mesh, read_mesh_file
 
 SizeFunction = Callable[[float, float], float]
 
@@ -219,3 +220,15 @@ def mesh_geo_file(path: Path) -> Mesh:
         gmsh.option.setNumber("Mesh.SecondOrderLinear", 1)
         gmsh.model.mesh.generate(2)
         return extract_mesh(gmsh, str(path))
+
+
+def read_mesh(path: str | Path) -> Mesh:
+    """A user's mesh file: a Gmsh ``.msh`` read as it is (:func:`solver.mesh.read_mesh_file`),
+    or a ``.geo`` meshed on the fly with Gmsh (second order, :func:`mesh_geo_file`).
+
+    Surfaces' physical groups become regions and curves' physical groups become named edges.
+    """
+    path = Path(path)
+    if path.suffix == ".geo" and path.exists():
+        return mesh_geo_file(path)
+    return read_mesh_file(path)

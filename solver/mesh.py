@@ -288,18 +288,18 @@ def write_msh22(mesh: Mesh, path: Path) -> None:
     path.write_text("\n".join(lines) + "\n")
 
 
-def read_mesh(path: str | Path) -> Mesh:
+def read_mesh_file(path: str | Path) -> Mesh:
     """Read a Gmsh ``.msh`` (any version meshio reads) whose physical groups are named.
 
     Surfaces' physical groups become regions and curves' physical groups become named edges.
-    A ``.geo`` file is meshed on the fly with Gmsh (second order).
+    A ``.geo`` file needs Gmsh to mesh it first: :func:`solver.geometry.read_mesh` reads both.
     """
     path = Path(path)
     if not path.exists():
         raise MeshError("file not found", source=str(path), fix="check the path to the mesh file.")
     if path.suffix == ".geo":
-        from .geometry import mesh_geo_file
-        return mesh_geo_file(path)
+        raise MeshError("a .geo file is a geometry, not a mesh", source=str(path),
+                        fix="read it with solver.geometry.read_mesh, which meshes it with Gmsh.")
     import meshio
     try:
         m = meshio.read(path, file_format="gmsh") if path.suffix == ".msh" else meshio.read(path)

@@ -19,7 +19,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from solver.mesh import read_mesh
+from solver.geometry import read_mesh
 from solver.results import LINE_COLUMNS, PROBE_COLUMNS, TEXT_COLUMNS, read_fields
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -172,20 +172,31 @@ def test_run_writes_every_output(embankment, reference):
     assert copy == original
 
 
+def interrupted_run(model: Path, out: Path, sig: int) -> tuple[int, str]:
+    """Start a run, send ``sig`` once 15 steps are written: (exit status, stderr)."""
+    proc = start("run", model, "-o", out, "--quiet", "--no-plots", *SOLVER)
+    wait_for_rows(out / "probes.csv", 1 + N_PROBES * 15, proc)
+    proc.send_signal(sig)
+    _, err = proc.communicate(timeout=60)
+    return proc.returncode, err
+
+
+def resume_to_the_reference(model: Path, out: Path, ref: Path) -> None:
+    """Resume the run in ``out``: it finishes, and its probes are those of ``ref``."""
+    r = cli("run", model, "-o", out, "--quiet", "--resume", "--no-plots", *SOLVER)
+    assert r.returncode == 0, r.stderr
+    assert_same_table(out / "probes.csv", ref / "probes.csv", PROBE_COLUMNS)
+
+
 def test_run_killed_with_sigkill_resumes_to_the_same_numbers(embankment, reference, tmp_path):
     ref, _ = reference
     out = tmp_path / "killed"
-    proc = start("run", embankment, "-o", out, "--quiet", "--no-plots", *SOLVER)
-    wait_for_rows(out / "probes.csv", 1 + N_PROBES * 15, proc)
-    proc.send_signal(signal.SIGKILL)
-    proc.communicate(timeout=60)
-    assert proc.returncode == -signal.SIGKILL
+    status, _ = interrupted_run(embankment, out, signal.SIGKILL)
+    assert status == -signal.SIGKILL
     assert (out / "checkpoint.npz").exists()
     assert not (out / "summary.json").exists()
     assert rows(out / "probes.csv") < rows(ref / "probes.csv")
-    r = cli("run", embankment, "-o", out, "--quiet", "--resume", "--no-plots", *SOLVER)
-    assert r.returncode == 0, r.stderr
-    assert_same_table(out / "probes.csv", ref / "probes.csv", PROBE_COLUMNS)
+    resume_to_the_reference(embankment, out, ref)
     assert_same_table(out / "lines.csv", ref / "lines.csv", LINE_COLUMNS)
     # With this backend the resumed run is byte for byte the uninterrupted one.
     assert (out / "probes.csv").read_bytes() == (ref / "probes.csv").read_bytes()
@@ -196,17 +207,12 @@ def test_run_killed_with_sigkill_resumes_to_the_same_numbers(embankment, referen
 def test_ctrl_c_stops_cleanly_with_status_130_and_resumes(embankment, reference, tmp_path):
     ref, _ = reference
     out = tmp_path / "interrupted"
-    proc = start("run", embankment, "-o", out, "--quiet", "--no-plots", *SOLVER)
-    wait_for_rows(out / "probes.csv", 1 + N_PROBES * 15, proc)
-    proc.send_signal(signal.SIGINT)
-    _, err = proc.communicate(timeout=60)
-    assert proc.returncode == 130, err
+    status, err = interrupted_run(embankment, out, signal.SIGINT)
+    assert status == 130, err
     assert "Traceback" not in err
     last = err.strip().splitlines()[-1]
     assert last.startswith("interrupted:") and "--resume" in last
-    r = cli("run", embankment, "-o", out, "--quiet", "--resume", "--no-plots", *SOLVER)
-    assert r.returncode == 0, r.stderr
-    assert_same_table(out / "probes.csv", ref / "probes.csv", PROBE_COLUMNS)
+    resume_to_the_reference(embankment, out, ref)
 
 
 def test_mesh_study_prints_a_row_per_probe_and_a_verdict(tmp_path):

@@ -12,7 +12,7 @@ import numpy as np
 import pytest
 
 from solver.errors import InputError
-from solver.mesh import read_mesh
+from solver.geometry import read_mesh
 from solver.model import (Berm, Embankment, Footing, Layer, Model, Section, SurfaceLoad,
                           domain_extent)
 from solver.sections import build_mesh, resolve_extent

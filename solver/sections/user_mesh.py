@@ -5,7 +5,8 @@ from __future__ import annotations
 from pathlib import Path
 
 from ..errors import InputError
-from ..mesh import Mesh, read_mesh
+from ..geometry import read_mesh
+from ..mesh import Mesh
 
 
 def file_mesh(model) -> Mesh:
