@@ -183,25 +183,30 @@ def build_parser() -> argparse.ArgumentParser:
     common.add_argument("--debug", action="store_true", default=argparse.SUPPRESS,
                         help="show the full traceback on errors")
 
-    v = sub.add_parser("validate", parents=[common], help="run the validation cases against closed-form solutions")
+    model = ("model", "model file (.toml)")
+    results = ("results", "folder written by 'poroplane run'")
+
+    def command(name: str, func, text: str, *positional: tuple[str, str]):
+        """A subcommand calling ``func(args)``, with its positional arguments."""
+        sp = sub.add_parser(name, parents=[common], help=text)
+        for arg, arg_help in positional:
+            sp.add_argument(arg, help=arg_help)
+        sp.set_defaults(func=func)
+        return sp
+
+    v = command("validate", _validate, "run the validation cases against closed-form solutions")
     v.add_argument("--quick", action="store_true", help="coarse meshes (about a minute)")
     v.add_argument("--json", action="store_true", help="print the checks as JSON")
     v.add_argument("--out", default="validation-results", help="folder for the comparison plots")
     v.add_argument("--case", action="append", metavar="NAME",
                    help="run only this case (repeatable): " + ", ".join(CASES))
-    v.set_defaults(func=_validate)
 
-    c = sub.add_parser("check", parents=[common], help="read, check and mesh a model file; solve nothing")
-    c.add_argument("model", help="model file (.toml)")
-    c.set_defaults(func=_check)
+    command("check", _check, "read, check and mesh a model file; solve nothing", model)
 
-    m = sub.add_parser("mesh", parents=[common], help="write the mesh of a model")
-    m.add_argument("model", help="model file (.toml)")
+    m = command("mesh", _mesh, "write the mesh of a model", model)
     m.add_argument("-o", "--output", required=True, help="mesh file to write (.msh, .vtu, ...)")
-    m.set_defaults(func=_mesh)
 
-    r = sub.add_parser("run", parents=[common], help="solve a model through its stages, streaming results")
-    r.add_argument("model", help="model file (.toml)")
+    r = command("run", _run, "solve a model through its stages, streaming results", model)
     r.add_argument("-o", "--output", required=True, help="folder for the results")
     r.add_argument("--resume", action="store_true",
                    help="continue an interrupted run from its last finished step")
@@ -211,33 +216,21 @@ def build_parser() -> argparse.ArgumentParser:
     r.add_argument("--quiet", action="store_true", help="no progress bar")
     r.add_argument("--no-plots", action="store_true",
                    help="skip the default plots and pictures after the run")
-    r.set_defaults(func=_run)
 
-    pl = sub.add_parser("plot", parents=[common], help="plots and section pictures of a run (PNG)")
-    pl.add_argument("results", help="folder written by 'poroplane run'")
+    pl = command("plot", _plot, "plots and section pictures of a run (PNG)", results)
     pl.add_argument("--times", type=float, nargs="+", metavar="DAYS",
                     help="times (days) for isochrones, troughs and pictures")
-    pl.set_defaults(func=_plot)
 
-    rp = sub.add_parser("report", parents=[common], help="one self-contained HTML report of a run")
-    rp.add_argument("results", help="folder written by 'poroplane run'")
-    rp.set_defaults(func=_report)
+    command("report", _report, "one self-contained HTML report of a run", results)
+    command("hand", _hand, "the hand method alone: settlement, t50, t90 per probe", model)
+    command("compare", _compare, "hand method against the finite elements of a run", results)
 
-    h = sub.add_parser("hand", parents=[common], help="the hand method alone: settlement, t50, t90 per probe")
-    h.add_argument("model", help="model file (.toml)")
-    h.set_defaults(func=_hand)
-
-    cp = sub.add_parser("compare", parents=[common], help="hand method against the finite elements of a run")
-    cp.add_argument("results", help="folder written by 'poroplane run'")
-    cp.set_defaults(func=_compare)
-
-    b = sub.add_parser("bench", parents=[common], help="time assembly, factorization and stepping (a benchmark)")
+    b = command("bench", _bench, "time assembly, factorization and stepping (a benchmark)")
     b.add_argument("--elements", type=int, default=20_000, help="target number of triangles")
     b.add_argument("--steps", type=int, default=100, help="time steps")
     b.add_argument("--linear-solver", default=None,
                    help="sparse direct solver backend (default: fastest installed)")
     b.add_argument("--json", action="store_true", help="print one JSON object")
-    b.set_defaults(func=_bench)
     return p
 
 
