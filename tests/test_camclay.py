@@ -168,6 +168,15 @@ def _random_states(mat, n, rng):
     return mat.initial_state(st, pc)
 
 
+def _random_step(n, seed, size):
+    """The clay at n random states (inside or on the ellipse) and random strain increments of
+    about ``size``: (material, states, increments)."""
+    mat = clay()
+    rng = np.random.default_rng(seed)
+    st = _random_states(mat, n, rng)
+    return mat, st, rng.normal(size=(n, 4)) * size
+
+
 @pytest.mark.parametrize("elastic_law", ["poisson_ratio", "shear_modulus"])
 def test_consistent_tangent_equals_finite_difference_derivative(elastic_law):
     # Borja & Lee 1990 (CMAME 78, 49-72): the algorithmic tangent is the exact derivative of
@@ -201,10 +210,7 @@ def test_consistent_tangent_equals_finite_difference_derivative(elastic_law):
 
 def test_return_mapping_lands_on_the_yield_surface():
     # Backward Euler (Borja & Lee 1990): plastic points end on f = 0, no point outside.
-    mat = clay()
-    rng = np.random.default_rng(7)
-    st = _random_states(mat, 2000, rng)
-    de = rng.normal(size=(2000, 4)) * 2e-2
+    mat, st, de = _random_step(2000, seed=7, size=2e-2)
     _, _, new = mat.update(st, de)
     f = mat.yield_function(new) / new.pc ** 2
     assert f.max() < 1e-10
@@ -226,10 +232,7 @@ def test_elastic_tangent_is_the_update_tangent_inside_the_yield_surface():
 
 def test_batch_of_points_gives_same_results_as_each_alone():
     # Vectorisation must not couple points (masked local Newton).
-    mat = clay()
-    rng = np.random.default_rng(3)
-    st = _random_states(mat, 40, rng)
-    de = rng.normal(size=(40, 4)) * 5e-3
+    mat, st, de = _random_step(40, seed=3, size=5e-3)
     s_all, D_all, new_all = mat.update(st, de)
     for i in range(40):
         s, D, new = mat.update(st.take([i]), de[[i]])
