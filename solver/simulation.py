@@ -20,7 +20,6 @@ from .errors import InputError
 from .fem.biot import (BiotProblem, BodyForce, Fixity, RigidPlate, State, StepSolver,
                        Traction)
 from .fem import element
-from .fem.assembly import strain_matrix
 from .materials.elastic import ElasticMaterial
 from .mesh import Mesh
 from .model import Material, Model, check_mesh_names
@@ -165,14 +164,15 @@ class Simulation:
         self.stepper = NewtonStepSolver(pb, mats, states, stress0, backend=self.backend)
         return self.stepper
 
-    def _stress_change(self, elem: np.ndarray | None = None) -> np.ndarray:
-        """Newton path: mean change of effective stress over each element's quadrature
-        points, (ne or len(elem), 4), tension positive."""
-        st = self.stepper
-        e = slice(None) if elem is None else elem       # probes: only their elements
-        ds = st.stress[e] - st.stress0[e]
-        w = self.problem.disc.dV[e]
-        return np.einsum("eqi,eq->ei", ds, w) / w.sum(axis=1)[:, None]
+    def _stress_change_q(self, state: State, elem: np.ndarray | None = None) -> np.ndarray:
+        """Change of effective stress at the quadrature points of all elements (or of
+        ``elem``, the probes' elements), (n, nq, 4), tension positive: from the material
+        states on the Newton path, D (B u - eps_placed) on the linear one."""
+        if self.nonlinear and self.stepper is not None:
+            st = self.stepper
+            e = slice(None) if elem is None else elem
+            return st.stress[e] - st.stress0[e]
+        return self.problem.stress_change_q(state, elem)
 
     # ------------------------------------------------------------ set-up
     def _region_materials(self):
@@ -316,7 +316,7 @@ class Simulation:
             elem, ref = np.zeros(0, int), np.zeros((0, 2))
         self._probe_elem, self._probe_pts = elem, pts
         self._probe_N = element.p2(ref)[0]                  # (np, 6)
-        self._probe_B = self._b_at(elem, ref)
+        self._probe_R = self.problem.disc.recovery_weights(ref)   # (np, nq)
         self._probe_init = self._geostatic(pts[:, 0], pts[:, 1]) if len(pts) \
             else None
         # Footings: the two ends and the centre of each base (clipped to the mesh in a half
@@ -344,18 +344,6 @@ class Simulation:
             self.lines.append((ln, xy[keep], np.hypot(*(xy[keep] - xy[0]).T), e[keep],
                                element.p2(r[keep])[0]))
 
-    def _b_at(self, elem: np.ndarray, ref: np.ndarray) -> np.ndarray:
-        """B (n, 4, 12) at reference points of the given elements."""
-        mesh = self.mesh
-        N, dN_ref = element.p2(ref)                          # (n, 6), (n, 6, 2)
-        x = mesh.points[mesh.triangles[elem]]                # (n, 6, 2)
-        J = np.einsum("nai,naj->nij", x, dN_ref)
-        dN = np.einsum("naj,nji->nai", dN_ref, np.linalg.inv(J))
-        r = None
-        if self.model.analysis == "axisymmetric":
-            r = np.maximum(np.einsum("na,na->n", N, x[..., 0]), 1e-12)
-        return strain_matrix(N, dN, r)
-
     # ---------------------------------------------------------- outputs
     def probe_values(self, state: State) -> dict[str, np.ndarray]:
         """Probe quantities (user signs: settlement down, pressures and stresses in
@@ -369,13 +357,9 @@ class Simulation:
         uv = np.einsum("na,nai->ni", self._probe_N, u)
         p_nodes = pb.disc.pressure_at_nodes(state.p)
         p = np.einsum("na,na->n", self._probe_N, p_nodes[t])
-        if self.nonlinear and self.stepper is not None:
-            dsig = self._stress_change(e)
-        else:
-            ue = state.u[pb.disc.u_dofs[e]]
-            eps = np.einsum("nij,nj->ni", self._probe_B, ue)
-            eps -= np.einsum("na,nai->ni", self._probe_N, pb.placed_strain_nodes[e])
-            dsig = np.einsum("nij,nj->ni", pb.D[e], eps)       # change, tension positive
+        # Quadrature-point stresses recovered to the point, on both paths (change, tension
+        # positive).
+        dsig = np.einsum("nq,nqi->ni", self._probe_R, self._stress_change_q(state, e))
         g = self._probe_init
         return {
             "settlement_m": -uv[:, 1],
@@ -420,11 +404,7 @@ class Simulation:
         """Nodal fields for the field output (user signs)."""
         pb = self.problem
         p = pb.disc.pressure_at_nodes(state.p)
-        if self.nonlinear and self.stepper is not None:
-            dsig = pb.disc.nodal_average(np.repeat(self._stress_change()[:, None], 6, axis=1),
-                                         weights=pb.active)
-        else:
-            dsig = pb.effective_stress_at_nodes(state)
+        dsig = pb.disc.recover_at_nodes(self._stress_change_q(state), weights=pb.active)
         g = self.initial
         eff = np.column_stack([g["horizontal_effective_kPa"] - dsig[:, 0],
                                g["vertical_effective_kPa"] - dsig[:, 1],

@@ -356,6 +356,36 @@ class Discretisation:
             B[:, :, 2, 0::2] = hoop
         return B
 
+    def recovery_weights(self, ref: np.ndarray) -> np.ndarray:
+        """Weights (n, nq) that carry a quantity known at the quadrature points (a stress) to
+        points of an element given by reference coordinates ``ref`` (n, 2).
+
+        The quantity is fitted by the least-squares linear function of the reference
+        coordinates through its values at the element's quadrature points, evaluated at
+        ``ref``. With the three-point rule (plane strain) the fit passes through the three
+        values, so the strain of a straight-sided P2 element, which is linear, is recovered
+        exactly anywhere in it; in axisymmetry (six points) the hoop strain of an element
+        with a side on the axis, u_r / r with u_r vanishing on that side, is linear too and
+        is recovered exactly up to the axis, where u_r / r -> d u_r / d r.
+        """
+        S = np.column_stack([np.ones(len(self.xi)), self.xi])          # (nq, 3)
+        ref = np.atleast_2d(np.asarray(ref, float))
+        return np.column_stack([np.ones(len(ref)), ref]) @ np.linalg.pinv(S)
+
+    @cached_property
+    def _node_recovery(self) -> np.ndarray:
+        """Recovery weights (6, nq) at an element's own nodes."""
+        ref = np.array([[0, 0], [1, 0], [0, 1], [0.5, 0], [0.5, 0.5], [0, 0.5]], float)
+        return self.recovery_weights(ref)
+
+    def recover_at_nodes(self, values_q: np.ndarray,
+                         weights: np.ndarray | None = None) -> np.ndarray:
+        """A quantity at the quadrature points (ne, nq, k) as nodal values (n_nodes, k): each
+        element's recovered values (:meth:`recovery_weights`) at its nodes, averaged over the
+        elements sharing a node (``weights`` as in :meth:`nodal_average`)."""
+        at_nodes = np.einsum("aq,eqk->eak", self._node_recovery, values_q)
+        return self.nodal_average(at_nodes, weights=weights)
+
     def nodal_average(self, element_node_values: np.ndarray,
                       weights: np.ndarray | None = None) -> np.ndarray:
         """Average (ne, 6, k) values at element nodes over the elements sharing each node.

@@ -123,9 +123,9 @@ class BiotProblem:
         self.active = (np.ones(ne, dtype=bool) if self.active is None
                        else np.asarray(self.active, dtype=bool).copy())
         self._check_names()
-        # Strain each element had when it was placed (stress-free then), at its nodes and
-        # quadrature points, and the force that keeps it stress-free: sum B^T D eps_placed.
-        self.placed_strain_nodes = np.zeros((ne, 6, 4))
+        # Strain each element had when it was placed (stress-free then), at its quadrature
+        # points, and the force that keeps it stress-free: sum B^T D eps_placed.
+        self.placed_strain_q = np.zeros(self.disc.B.shape[:3])
         self.f_placed = np.zeros(self.disc.n_u)
         self._body = [(bf, self.disc.body_force_vector(
             np.zeros(ne), -bf.unit_weight * (self.mesh.region == self.mesh.region_id(bf.region))))
@@ -231,7 +231,7 @@ class BiotProblem:
         fe = np.einsum("eqij,eqi,eq->ej", d.B[new], sig_q, d.dV[new])
         self.f_placed += np.bincount(d.u_dofs[new].ravel(), weights=fe.ravel(),
                                      minlength=d.n_u)
-        self.placed_strain_nodes[new] = np.einsum("enij,ej->eni", d._node_B[new], ue)
+        self.placed_strain_q[new] = eps_q
         self.active |= new
         self._assemble()
         self._constrain()
@@ -296,13 +296,19 @@ class BiotProblem:
         return f, plate
 
     # ---------------------------------------------------------- output
-    def effective_stress_at_nodes(self, state: "State") -> np.ndarray:
-        """Change of effective stress (n_nodes, 4) [xx, yy, zz, xy], kPa, tension positive."""
+    def stress_change_q(self, state: "State", elem: np.ndarray | None = None) -> np.ndarray:
+        """Change of effective stress at the quadrature points of all elements (or of
+        ``elem``), (ne, nq, 4), kPa, tension positive: D (B u - eps_placed)."""
         d = self.disc
-        eps = np.einsum("enij,ej->eni", d._node_B, state.u[d.u_dofs])   # (ne, 6, 4)
-        eps -= self.placed_strain_nodes
-        sig = np.einsum("eij,enj->eni", self.D, eps)
-        return d.nodal_average(sig, weights=self.active)
+        e = slice(None) if elem is None else elem
+        eps = np.einsum("eqij,ej->eqi", d.B[e], state.u[d.u_dofs[e]]) - self.placed_strain_q[e]
+        return np.einsum("eij,eqj->eqi", self.D[e], eps)
+
+    def effective_stress_at_nodes(self, state: "State") -> np.ndarray:
+        """Change of effective stress (n_nodes, 4) [xx, yy, zz, xy], kPa, tension positive:
+        the quadrature-point stresses recovered to the nodes (``Discretisation.recover_at_nodes``),
+        averaged over the active elements."""
+        return self.disc.recover_at_nodes(self.stress_change_q(state), weights=self.active)
 
     def total_stress_at_nodes(self, state: "State") -> np.ndarray:
         """Change of total stress (n_nodes, 4), kPa, tension positive: sigma' - alpha p m."""
