@@ -167,6 +167,25 @@ def test_rectangle_corner_of_long_rectangle_is_half_the_strip_edge_value():
     assert 0.5 * edge == pytest.approx(0.2046, abs=1e-4)
 
 
+def test_rectangle_corner_influence_with_one_infinite_side_is_the_limit_of_the_closed_form():
+    # Newmark (1935) corner formula, the side n taken to infinity numerically: the finite
+    # values converge (as 1/n^4) to the value returned for n = inf, for either side infinite;
+    # the limits are Fadum's (1948) chart values 0.2046 for (1, inf) and 0.1374 for
+    # (0.5, inf) (chart values from memory, confirmed here by the limit itself).
+    for m, fadum in ((1.0, 0.2046), (0.5, 0.1374), (2.0, None), (0.1, None)):
+        n = np.array([1e2, 1e3, 1e4, 1e5, 1e6])
+        finite = st.rectangle_corner_influence(m, n)
+        limit = float(st.rectangle_corner_influence(m, np.inf))
+        err = np.abs(finite - limit)
+        assert 0.0 < err[0] < 1e-8 and err[1] < 2e-3 * err[0]   # converging as 1/n^4 ...
+        assert np.all(err[2:] < 1e-15)                          # ... to round-off
+        assert float(st.rectangle_corner_influence(np.inf, m)) == limit     # symmetric in m, n
+        if fadum is not None:
+            assert limit == pytest.approx(fadum, abs=1e-4)          # the chart's last digit
+    assert float(st.rectangle_corner_influence(0.0, np.inf)) == 0.0
+    assert float(st.rectangle_corner_influence(np.inf, np.inf)) == 0.25
+
+
 def test_rectangle_corner_influence_is_continuous_where_the_arctan_branch_changes():
     # Newmark (1935): the arctan argument changes sign at m^2 n^2 = m^2 + n^2 + 1; the
     # influence itself is smooth there (here m = 2, n = sqrt(5/3)).
