@@ -199,3 +199,14 @@ def test_probe_consolidation_needs_permeability():
     with pytest.raises(InputError) as err:
         rate.probe_consolidation(layers, probe, [10.0])
     assert err.value.field == "layers.clay.permeability"
+
+
+def test_finite_difference_degree_starts_at_zero_and_follows_terzaghi_at_once():
+    # Terzaghi (1925): U(0) = 0 and U = 2 sqrt(Tv / pi) at small Tv; the drained node's lumped
+    # storage must not show as consolidation before any time has passed.
+    h, mv, cv = 5.0, 1e-3, 0.5
+    tv = np.array([0.0, 1e-4, 1e-3, 5e-3])
+    res = rate.layered_consolidation([h], [mv], [cv * mv * GW], tv * h * h / cv, depths=[0.0])
+    assert res.average_degree[0] == 0.0 and res.history_degree[0] == 0.0
+    assert res.average_degree_below[0, 0] == 0.0
+    np.testing.assert_allclose(res.average_degree[1:], 2.0 * np.sqrt(tv[1:] / np.pi), rtol=0.01)

@@ -457,8 +457,10 @@ def layered_consolidation(thickness: ArrayLike, mv: ArrayLike, permeability: Arr
     t = 0.0
     sig_now = sigma_at(0.0, True)
     u = np.where(free, sig_now, 0.0)         # sudden pieces at t = 0 are felt undrained
-    hist_t, hist_u = [0.0], [degree(u, sig_now)]
-    hist_ub, hist_p = [degree_below(u, sig_now)], [at_depths(u)]
+    # At t = 0 no water has left: U(0) = 0 (the lumped storage of a drained node would
+    # otherwise count as consolidated at once; it is by the first step).
+    hist_t, hist_u = [0.0], [0.0]
+    hist_ub, hist_p = [np.where(np.isfinite(inv_below), 0.0, np.nan)], [at_depths(u)]
     out_u = np.empty((t_out.size, nn))
     out_deg = np.empty(t_out.size)
     out_below = np.empty((t_out.size, dep.size))
