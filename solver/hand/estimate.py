@@ -3,8 +3,9 @@
 :func:`hand_estimate` reads the same :class:`solver.model.Model` the finite-element run reads
 and, for every point probe, puts together the pure functions of this package:
 
-1. **Stress increase** under the probe from every load the stages apply, at its factor at the
-   end of the last stage (elastic half-space, superposition; :mod:`solver.hand.stress`):
+1. **Stress increase** under the probe from every load the stages apply, per unit factor, so
+   that each stage's change of the load factors gives its stress change (elastic half-space,
+   superposition; :mod:`solver.hand.stress`):
 
    - the embankment as the full symmetric section (a half model is the right half of it),
      lift by lift: the pressure of lift n is the fill unit weight times the part of the fill
@@ -67,23 +68,33 @@ and, for every point probe, puts together the pure functions of this package:
    practice, see :func:`~solver.hand.settlement.secondary_compression_settlement`) to the end
    of the last stage, times counted from the start of the first stage.
 
-5. **Time rate**: the stages become a staged loading history (a lift's weight ramps on over
-   its stage, a load stage ramps the named loads to their new factor, a consolidate stage
-   waits), applied to the layered one-dimensional finite-difference consolidation
-   (:func:`~solver.hand.rate.probe_consolidation`) with each sublayer's secant m_v and each
-   layer's c_v (or k), drained at the top if ``drainage.top`` and at the base if
-   ``drainage.base``. A layer is free-draining (u = 0 in it) when its vertical permeability
-   is at least :data:`FREE_DRAINING_RATIO` times the smallest vertical permeability of the
-   layers and it reaches a drained boundary (the top, the base, or drained sides) directly or
-   through other such layers (common practice: a sand layer against a drain acts as a drain);
-   an enclosed sand lens stays in the column with its own k and m_v. A stage with
+5. **Through the stages** (:mod:`solver.hand.history`): the stages become a load history (a
+   lift's weight ramps on over its stage, a load stage ramps the named loads to their new
+   factor, a consolidate stage waits), one stress increment per stage that changes the load.
+   Each sublayer follows its stress path: the settlement under each load level is the 1D
+   settlement at that stress, on the compression line above sigma'_p and on the
+   recompression line (Cr) on unloading and reloading below the largest effective stress
+   reached, which the degree of consolidation reached before each change sets (a surcharge
+   removed at U = 90 % rebounds from the stress reached then). The time curve is built stage
+   by stage by superposing each increment's consolidation (Terzaghi 1925; Olson 1977 for a
+   ramp), from the layered one-dimensional finite-difference column
+   (:func:`~solver.hand.rate.layered_consolidation`) with, in each layer, the m_v of that
+   increment and the layer's c_v (or k), drained at the top if ``drainage.top`` and at the
+   base if ``drainage.base``. A layer is free-draining (u = 0 in it) when its own
+   consolidation is over (U = :data:`FREE_DRAINING_DEGREE`) before the first time of the
+   estimate and it reaches a drained boundary (the top, the base, or drained sides) directly
+   or through other such layers (:func:`~solver.hand.ground.free_draining`; the notes say
+   which and why); any other layer stays in the column with its own k and m_v. A stage with
    ``until_degree`` runs its full duration here (the FE run may end it earlier).
-   From the solution: settlement(t), t50 and t90 (times to 50 % and 90 % of the final
-   consolidation settlement of the soil below the probe), and the largest excess pore
-   pressure at the probe's depth (probes inside the ground; NaN on a drained surface).
+   From the solution: settlement(t); per stage the settlement at its end, the settlement its
+   load would give held for ever and the degree reached (``ProbeEstimate.stages``); t50 and
+   t90 (times to 50 % and 90 % of the final consolidation settlement of the soil below the
+   probe, from the start of the first stage); the largest excess pore pressure at the probe's
+   depth (probes inside the ground; NaN on a drained surface or in a free-draining layer).
 
 6. **Differential settlement** and angular distortion between consecutive probes on the
-   ground surface (or on a footing base, or in the fill above the ground) sorted by x, checked against Bjerrum (1963) limits
+   ground surface (or on a footing base, or in the fill above the ground) sorted by x,
+   checked against Bjerrum (1963) limits
    (:mod:`solver.hand.differential`).
 
 The final settlement is ``immediate + consolidation (U = 100 %) + secondary to the end of
@@ -93,8 +104,9 @@ secondary(t)``; the immediate part follows the load factors.
 Units: kN, m, kPa, kN/m3, days; depth z positive downward from the original ground surface.
 The steps live in modules of one job: :mod:`solver.hand.loads` (the model's loads as
 elementary parts), :mod:`solver.hand.ground` (layers, parameters, the column under a probe),
-:mod:`solver.hand.stages` (the load history), :mod:`solver.hand.immediate` (the immediate
-settlement of a load on the column); this module puts them together.
+:mod:`solver.hand.stages` (the stages as load pieces), :mod:`solver.hand.history` (the
+settlement through the history), :mod:`solver.hand.immediate` (the immediate settlement of a
+load on the column); this module puts them together.
 They read :mod:`solver.model` and :mod:`solver.initial` and never the FE code.
 """
 
@@ -109,19 +121,20 @@ from solver import CAUTION
 from solver.errors import InputError
 from solver.model import Model, domain_extent
 
-from . import differential, rate, settlement
+from . import differential, history, rate, settlement
 from .elastic import disc_displacement
-from .ground import FREE_DRAINING_RATIO, build_column, layer_data, mark_free_draining
+from .ground import FREE_DRAINING_DEGREE, build_column, free_draining, layer_data
 from .immediate import load_immediate_settlement
 from .loads import (STAIRCASE_STEPS, model_loads, on_rigid_base, part_spread, part_stress,
                     within_footing)
 from .stages import default_times, ramp, schedule
 
 __all__ = [
-    "FREE_DRAINING_RATIO",
+    "FREE_DRAINING_DEGREE",
     "END_OF_PRIMARY_DEGREE",
     "STAIRCASE_STEPS",
     "ProbeEstimate",
+    "StageEstimate",
     "DifferentialEstimate",
     "HandEstimate",
     "hand_estimate",
@@ -146,26 +159,44 @@ _TOL = 1e-9
 
 
 @dataclass
+class StageEstimate:
+    """One stage seen from a probe: ``settlement_m`` the consolidation settlement of the soil
+    below it at the stage's end, ``ultimate_m`` the settlement the load in place then would
+    give held for ever (the 1D settlement along the stress path), ``degree`` their ratio (the
+    degree of consolidation reached); times in days on the estimate's clock."""
+    name: str
+    kind: str
+    start_days: float
+    end_days: float
+    settlement_m: float
+    ultimate_m: float
+    degree: float
+
+
+@dataclass
 class ProbeEstimate:
     """The hand estimate at one point probe.
 
     Scalars: ``probe_depth_m`` (depth of the probe below the original ground; 0 on the
     surface or in the fill), ``final_settlement_m`` = immediate + consolidation + secondary,
-    ``immediate_settlement_m``, ``consolidation_settlement_m`` (primary, U = 100 %),
+    ``immediate_settlement_m``, ``consolidation_settlement_m`` (primary, U = 100 % under the
+    final load, along the stress path of the stages),
     ``secondary_settlement_m`` (to the end of the last stage), ``t50_days``, ``t90_days``,
     ``end_of_primary_days`` (t95), ``max_excess_pore_pressure_kPa`` (NaN on a drained surface).
 
     Profile arrays, one value per sublayer below the probe (n_sub,): ``depth_m`` (mid-depth
     below the original ground), ``stress_increase_kPa`` (half-space, used),
     ``stress_increase_2to1_kPa`` (quick check), ``initial_effective_stress_kPa``,
-    ``preconsolidation_pressure_kPa`` (NaN for m_v layers), ``sublayer_settlement_m``,
-    ``sublayer_layer`` (names).
+    ``preconsolidation_pressure_kPa`` (NaN for m_v layers), ``sublayer_settlement_m``
+    (ultimate, under the final load along the stress path), ``sublayer_layer`` (names).
 
     History arrays (nt,): ``time_days``, ``settlement_m`` (immediate + consolidation +
-    secondary), ``consolidation_degree`` (U of the soil below the probe),
+    secondary), ``consolidation_degree`` (U of the soil below the probe: its consolidation
+    settlement over the settlement the load in place would give held for ever),
     ``excess_pore_pressure_kPa`` (at the probe depth).
 
-    ``where``: "ground surface", "in the fill", "footing base" or "inside the ground".
+    ``where``: "ground surface", "in the fill", "footing base" or "inside the ground";
+    ``stages``: one :class:`StageEstimate` per stage (the degree reached before each change).
     """
     name: str
     x_m: float
@@ -193,6 +224,7 @@ class ProbeEstimate:
     excess_pore_pressure_kPa: NDArray[np.float64]
     notes: list[str] = field(default_factory=list)
     where: str = "ground surface"
+    stages: list[StageEstimate] = field(default_factory=list)
 
     @property
     def on_surface(self) -> bool:
@@ -292,12 +324,11 @@ def hand_estimate(model: Model, times=None, max_sublayer_thickness: float | None
     notes: list[str] = []
     axi = model.analysis == "axisymmetric"
     data = [layer_data(model, j, notes) for j in range(len(model.layers))]
-    mark_free_draining(model, data, notes)
     ext = domain_extent(model)
     loads = model_loads(model, None if ext is None else (ext[0], ext[1]), notes)
-    pieces, final_factor, end = schedule(model, loads, notes)
-    active = [n for n in loads if final_factor.get(n, 0.0) != 0.0 or any(p[2] == n for p in pieces)]
-    knots = sorted({p[0] for p in pieces} | {p[0] + p[1] for p in pieces})
+    pieces, final_factor, end, spans = schedule(model, loads, notes)
+    active = [n for n in loads if final_factor.get(n, 0.0) != 0.0 or any(p.load == n for p in pieces)]
+    knots = sorted({p.start for p in pieces} | {p.start + p.duration for p in pieces})
     t_out = (default_times(model, end, knots) if times is None
              else np.unique(np.asarray(times, dtype=float).ravel()))
     if t_out.size == 0 or np.any(t_out < 0.0):
@@ -309,16 +340,15 @@ def hand_estimate(model: Model, times=None, max_sublayer_thickness: float | None
         max_sub = max(min(0.5, min(widths) / 4.0) if widths else 0.5, 0.02)
     else:
         max_sub = float(max_sublayer_thickness)
+    positive = t_out[t_out > 0.0]
+    first_time = float(positive[0]) if positive.size else 0.0
 
     footing_names = {f.name for f in model.section.footings} if model.section.kind == "footings" else set()
-    # probes grouped by x: one column (split at every probe depth there) and one FD run
-    probe_depths = {}
-    for pr in model.probes:
-        probe_depths[pr.name] = max(0.0, -float(pr.y))
+    # probes grouped by x: one column (split at every probe depth there) and one staged solution
+    probe_depths = {pr.name: max(0.0, -float(pr.y)) for pr in model.probes}
     groups: dict[float, list] = {}
     for pr in model.probes:
-        key = round(float(pr.x), 9)
-        groups.setdefault(key, []).append(pr)
+        groups.setdefault(round(float(pr.x), 9), []).append(pr)
 
     results: dict[str, ProbeEstimate] = {}
     for prs in groups.values():
@@ -328,6 +358,11 @@ def hand_estimate(model: Model, times=None, max_sublayer_thickness: float | None
         total_depth = float(col.tops[-1])
         subs = settlement.split_layers(col.layers, max_sub)
         zm = subs.mid
+        gw = model.water.unit_weight
+        s0_layers = settlement.vertical_effective_stress(0.5 * (col.tops[:-1] + col.tops[1:]),
+                                                         col.layers, model.water.table_depth, gw)
+        col.free, free_notes = free_draining(col, s0_layers, first_time, model.drainage, gw)
+        notes.extend(n for n in free_notes if n not in notes)
         unit = {n: sum(part_stress(p, x, zm, axi) for p in loads[n].stress_parts) for n in active}
         unit_spread = {n: sum(part_spread(p, x, zm) for p in loads[n].spread_parts) for n in active}
         final_2to1 = sum((final_factor[n] * unit_spread[n] for n in active), np.zeros_like(zm))
@@ -336,7 +371,7 @@ def hand_estimate(model: Model, times=None, max_sublayer_thickness: float | None
         rigid_at = {pr.name: [n for n in active if on_rigid_base(loads[n], x, depth_of[pr.name])]
                     for pr in prs}
         shared_depths = sorted({depth_of[pr.name] for pr in prs if not rigid_at[pr.name]})
-        shared = (_column_solution(model, col, max_sub, zm, unit, active, pieces, final_factor,
+        shared = (_column_solution(model, col, subs, max_sub, unit, active, pieces, final_factor,
                                    t_out, shared_depths) if shared_depths else None)
         for pr in prs:
             d = depth_of[pr.name]
@@ -357,12 +392,12 @@ def hand_estimate(model: Model, times=None, max_sublayer_thickness: float | None
                                   f"characteristic point {off:.3g} m from its centre (Grasshoff "
                                   "1955; from memory), its immediate settlement as the rigid "
                                   "value.")
-                sol, j = _column_solution(model, col, max_sub, zm, unit_p, active, pieces,
+                sol, j = _column_solution(model, col, subs, max_sub, unit_p, active, pieces,
                                           final_factor, t_out, [d]), 0
             else:
                 sol, j = shared, shared_depths.index(d)
             est = _probe_estimate(model, pr, d, col, sol, j, final_2to1, loads, active, pieces,
-                                  final_factor, x, t_out, end, pnotes, axi)
+                                  spans, final_factor, x, t_out, end, pnotes, axi)
             on_base = any(within_footing(loads[n], x, d)
                           for n in active if n in footing_names)
             est.where = ("in the fill" if pr.y > _TOL else "ground surface" if d <= _TOL else
@@ -380,84 +415,107 @@ within 1e-4 of Terzaghi's; see the tests)."""
 
 @dataclass
 class _Solution:
-    """Primary settlement and time rate of one column under one stress field."""
+    """Primary settlement and time rate of one column under one stress field: ``ps`` the
+    profile under the final load (stresses; its settlements are the formula's under the final
+    stress), ``staged`` the settlement through the history."""
     ps: settlement.ProbeSettlement
-    res: rate.LayeredConsolidation | None
+    staged: history.StagedConsolidation
     depths: list[float]
 
 
-def _column_solution(model, col, max_sub, zm, unit, active, pieces, final_factor, t_out,
-                     depths) -> _Solution:
-    """Primary settlement of the whole column and its staged time rate (the FD needs all of
-    it; the settlement of the soil below each depth is read off afterwards)."""
+def _increments(pieces, unit, n_sub: int) -> list[history.Increment]:
+    """One increment per stage that changes the load: the stress changes of its pieces summed."""
+    by_stage: dict[int, list] = {}
+    for p in pieces:
+        by_stage.setdefault(p.stage, []).append(p)
+    out = []
+    for k in sorted(by_stage):
+        ps = by_stage[k]
+        change = sum((p.change * unit[p.load] for p in ps), np.zeros(n_sub))
+        out.append(history.Increment(ps[0].start, ps[0].duration, change, str(k)))
+    return out
+
+
+def _column_solution(model, col, subs, max_sub, unit, active, pieces, final_factor, t_out, depths
+                     ) -> _Solution:
+    """Settlement of the whole column through the staged history (the FD needs all of it; the
+    settlement of the soil below each depth is read off afterwards)."""
     gw = model.water.unit_weight
+    zm = subs.mid
     stress_final = sum((final_factor[n] * unit[n] for n in active), np.zeros_like(zm))
     ps = settlement.settlement_under_probe(col.layers, lambda z: stress_final, model.water.table_depth,
                                            max_sublayer_thickness=max_sub, gamma_w=gw)
     if ps.mid.size != zm.size or not np.allclose(ps.mid, zm):
         raise AssertionError("sublayers differ")       # the same split_layers call
-    history = [rate.LoadPiece(t0, dur, change * unit[name]) for (t0, dur, name, change) in pieces]
-    res = None
-    if history and np.sum(ps.settlement_m) > 0.0 and np.any(ps.settlement_m > 0.0):
-        try:
-            res = rate.probe_consolidation(col.layers, ps, t_out, drained_top=bool(model.drainage.top),
-                                           drained_bottom=bool(model.drainage.base), gamma_w=gw,
-                                           load_history=history, free_draining_layers=col.free,
-                                           depths=depths, growth=FD_GROWTH)
-        except InputError as exc:
-            if "no consolidation settlement" not in exc.message:
-                raise
-    return _Solution(ps, res, list(depths))
+    staged = history.staged_consolidation(
+        col.layers, ps, ps.sigma_v0_kPa, ps.sigma_p_kPa, _increments(pieces, unit, zm.size), t_out,
+        drained_top=bool(model.drainage.top), drained_bottom=bool(model.drainage.base),
+        free_draining_layers=col.free, rate_group=[d.model_index for d in col.data],
+        depths=depths, gamma_w=gw, growth=FD_GROWTH)
+    return _Solution(ps, staged, list(depths))
 
 
-def _probe_estimate(model, pr, d, col, sol, j, final_2to1, loads, active, pieces, final_factor,
-                    x, t_out, end, pnotes, axi) -> ProbeEstimate:
+def _probe_estimate(model, pr, d, col, sol, j, final_2to1, loads, active, pieces, spans,
+                    final_factor, x, t_out, end, pnotes, axi) -> ProbeEstimate:
     """Everything for one probe at depth d; ``sol`` is its column's solution, ``j`` the index
     of d in ``sol.depths``."""
-    ps, res = sol.ps, sol.res
+    ps, st = sol.ps, sol.staged
     below = ps.top >= d - 1e-9
-    cons_final = float(np.sum(ps.settlement_m[below]))
+    ultimate = st.final_ultimate_m
+    cons_final = float(np.sum(ultimate[below]))
     first_layer = int(ps.layer_index[int(np.argmax(below))]) if below.any() else len(col.layers)
-    n_t = t_out.size
-    degree = np.zeros(n_t)
-    u_probe = np.zeros(n_t)
+    tf = st.times_days
+    s_fine = st.settlement_below(below)
+    cons_t = np.interp(t_out, tf, s_fine)
+    level = st.ultimate_at(t_out, below)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        degree = np.where(np.abs(level) > 0.0, cons_t / np.where(level != 0.0, level, 1.0), 0.0)
     t50 = t90 = t95 = float("nan")
-    u_max = float("nan")
-    drained_top = bool(model.drainage.top)
-    if res is not None and cons_final > 0.0:
-        degree = np.nan_to_num(res.average_degree_below[:, j])
-        t50 = res.time_for_degree(0.5, below=j)
-        t90 = res.time_for_degree(0.9, below=j)
-        t95 = res.time_for_degree(END_OF_PRIMARY_DEGREE, below=j)
-        zn = res.node_depth_m
-        u_probe = np.array([np.interp(d, zn, row) for row in res.excess_pore_pressure_kPa])
-        if d > 1e-9 or not drained_top:
-            u_max = float(np.max(res.history_excess_pore_pressure_kPa[:, j]))
+    if cons_final > 0.0:
+        t50, t90, t95 = (rate.first_time_reaching(tf, s_fine / cons_final, f)
+                         for f in (0.5, 0.9, END_OF_PRIMARY_DEGREE))
     elif cons_final != 0.0:
-        pnotes.append("no consolidation time rate: the load gives no net consolidation in the column.")
-    cons_t = degree * cons_final
+        pnotes.append("no consolidation time rate: the load gives no net consolidation below "
+                      "the probe.")
+    u_fine = st.excess_pore_pressure_kPa[:, j]
+    u_probe = np.interp(t_out, tf, u_fine)
+    drained_here = (d <= 1e-9 and bool(model.drainage.top)) or bool(
+        np.any(col.free[[i for i in range(len(col.layers)) if col.tops[i] - 1e-9 <= d <= col.tops[i + 1] + 1e-9]]))
+    u_max = float("nan") if drained_here or not st.increments else float(np.max(u_fine))
+    stage_rows = _stage_rows(st, spans, below, tf, s_fine)
+    _history_notes(st, spans, below, stage_rows, pnotes)
 
     # immediate settlement: each load at factor 1, then the history of factors
     imm_unit = {n: load_immediate_settlement(loads[n], col, x, d, axi) for n in active}
     imm_final = float(sum(final_factor[n] * imm_unit[n] for n in active))
-    imm_t = np.zeros(n_t)
-    for (t0, dur, name, change) in pieces:
-        imm_t += change * imm_unit[name] * ramp(t_out, t0, dur)
+    imm_t = np.zeros(t_out.size)
+    for p in pieces:
+        imm_t += p.change * imm_unit[p.load] * ramp(t_out, p.start, p.duration)
 
-    # secondary compression below d from t95 to the end of the stages, in the sublayers loaded
-    # past their preconsolidation pressure (m_v layers: wherever the load increases)
+    # secondary compression below d from t95 to the end of the stages, in the sublayers left
+    # normally consolidated by the final load (not those an unloading left overconsolidated;
+    # m_v layers: wherever the load increases)
     layers_below = col.layers[first_layer:]
-    sec_t = np.zeros(n_t)
+    sec_t = np.zeros(t_out.size)
     sec_final = 0.0
     final_eff = ps.sigma_v0_kPa + ps.delta_sigma_kPa
-    loaded = np.where(np.isnan(ps.sigma_p_kPa), ps.delta_sigma_kPa > 0.0, final_eff > ps.sigma_p_kPa)
-    creeping = below & loaded & np.array([col.layers[i].secondary_compression_index is not None
-                                          for i in ps.layer_index])
+    loaded = np.where(np.isnan(ps.sigma_p_kPa), ps.delta_sigma_kPa > 0.0,
+                      (final_eff > ps.sigma_p_kPa) & (final_eff >= st.final_memory_kPa * (1.0 - 1e-9)))
+    has_c_alpha = np.array([col.layers[i].secondary_compression_index is not None
+                            for i in ps.layer_index])
+    creeping = below & loaded & has_c_alpha
+    first_memory = np.fmax(ps.sigma_p_kPa, ps.sigma_v0_kPa)
+    preloaded = (st.final_memory_kPa > first_memory * (1.0 + 1e-9)) & \
+        (st.final_memory_kPa > final_eff * (1.0 + 1e-9))
+    if np.any(below & has_c_alpha & preloaded):
+        pnotes.append("no secondary compression where an unloading (a surcharge removed or "
+                      "reduced) has left the soil overconsolidated under the final load "
+                      "(common practice).")
     if creeping.any() and np.isfinite(t95) and t95 > 0.0:
         sub_ps = settlement.ProbeSettlement(ps.top[creeping], ps.bottom[creeping],
                                             ps.layer_index[creeping] - first_layer,
                                             ps.sigma_v0_kPa[creeping], ps.delta_sigma_kPa[creeping],
-                                            ps.sigma_p_kPa[creeping], ps.settlement_m[creeping])
+                                            ps.sigma_p_kPa[creeping], ultimate[creeping])
         sec_t = settlement.secondary_settlement_under_probe(layers_below, sub_ps, t_out, t95)
         sec_final = float(settlement.secondary_settlement_under_probe(layers_below, sub_ps,
                                                                       np.array([end]), t95)[0])
@@ -471,7 +529,7 @@ def _probe_estimate(model, pr, d, col, sol, j, final_2to1, loads, active, pieces
     for i, ly in enumerate(col.layers):
         sel = (ps.layer_index == i) & below
         if sel.any():
-            layer_settlement[ly.name] = layer_settlement.get(ly.name, 0.0) + float(np.sum(ps.settlement_m[sel]))
+            layer_settlement[ly.name] = layer_settlement.get(ly.name, 0.0) + float(np.sum(ultimate[sel]))
     return ProbeEstimate(
         name=pr.name, x_m=float(pr.x), y_m=float(pr.y), probe_depth_m=float(d),
         final_settlement_m=imm_final + cons_final + sec_final, immediate_settlement_m=imm_final,
@@ -480,11 +538,39 @@ def _probe_estimate(model, pr, d, col, sol, j, final_2to1, loads, active, pieces
         depth_m=ps.mid[below], stress_increase_kPa=ps.delta_sigma_kPa[below],
         stress_increase_2to1_kPa=np.asarray(final_2to1)[below],
         initial_effective_stress_kPa=ps.sigma_v0_kPa[below],
-        preconsolidation_pressure_kPa=ps.sigma_p_kPa[below], sublayer_settlement_m=ps.settlement_m[below],
+        preconsolidation_pressure_kPa=ps.sigma_p_kPa[below], sublayer_settlement_m=ultimate[below],
         sublayer_layer=[col.layers[i].name for i in ps.layer_index[below]],
         layer_settlement_m=layer_settlement, time_days=t_out, settlement_m=imm_t + cons_t + sec_t,
-        consolidation_degree=degree, excess_pore_pressure_kPa=u_probe, notes=pnotes)
+        consolidation_degree=degree, excess_pore_pressure_kPa=u_probe, notes=pnotes,
+        stages=stage_rows)
 
+
+def _stage_rows(st: history.StagedConsolidation, spans, below, tf, s_fine) -> list[StageEstimate]:
+    """The consolidation settlement below the probe at the end of each stage, the settlement
+    its load would give held for ever, and the degree reached."""
+    rows = []
+    for i, sp in enumerate(spans):
+        s_end = float(np.interp(sp.end, tf, s_fine))
+        ult = st.ultimate_after(i, below)
+        rows.append(StageEstimate(sp.name, sp.kind, sp.start, sp.end, s_end, ult,
+                                  s_end / ult if ult != 0.0 else float("nan")))
+    return rows
+
+
+def _history_notes(st, spans, below, rows, pnotes) -> None:
+    """Say where the load is reduced: the degree reached before it and the rebound."""
+    for k, inc in enumerate(st.increments):
+        i = int(inc.stage)
+        if k == 0 or not np.sum(inc.stress_change_kPa[below]) < 0.0:
+            continue
+        prev = rows[i - 1] if i > 0 else None
+        if prev is None or prev.ultimate_m == 0.0:
+            continue
+        after = float(np.sum(st.ultimate_m[k][below]))
+        pnotes.append(f"stage {spans[i].name!r} reduces the load after a degree of consolidation "
+                      f"of {prev.degree:.0%} ({prev.settlement_m:.4f} m of {prev.ultimate_m:.4f} m): "
+                      f"the ultimate becomes {after:.4f} m, the soil rebounding on the "
+                      "recompression line (Cr) from the effective stress it had reached.")
 
 
 def _differential(probes: dict[str, ProbeEstimate], model: Model, notes: list[str]

@@ -3,33 +3,35 @@
 :func:`layer_data` reads one model layer's material (oedometer Cc, Cr, e0, sigma'_p or m_v;
 Modified Cam Clay lambda and kappa; elastic moduli as the last resort) into the keyword
 arguments of :class:`solver.hand.settlement.Layer`, with a note for every conversion;
-:func:`mark_free_draining` applies the free-draining rule; :func:`build_column` gives the hand
-layers under one x (sloping layers at their local thickness), split at the probe depths, with
-each one's undrained modulus. See :mod:`solver.hand.estimate` for the method as a whole.
+:func:`build_column` gives the hand layers under one x (sloping layers at their local
+thickness), split at the probe depths, with each one's undrained modulus; :func:`free_draining`
+decides which of them drain freely in the time rate. See :mod:`solver.hand.estimate` for the method as a whole.
 
 Units: kN, m, kPa, kN/m3, days, permeability m/day; depth positive downward.
 """
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 from typing import Sequence
 
 import numpy as np
 from numpy.typing import NDArray
 
+from solver.analytic import terzaghi_time_factor
 from solver.errors import InputError
 from solver.initial import LayerColumn, at_rest_coefficient
 from solver.model import Material, Model, base_elevation, domain_extent
 
 from . import parameters, settlement
 
-__all__ = ["FREE_DRAINING_RATIO", "LayerData", "layer_data", "mark_free_draining", "Column",
+__all__ = ["FREE_DRAINING_DEGREE", "LayerData", "layer_data", "free_draining", "Column",
            "layer_faces", "build_column", "elastic_youngs"]
 
-FREE_DRAINING_RATIO = 1000.0
-"""A layer whose vertical permeability is at least this many times the smallest one of the
-layers, and which reaches a drained boundary, is free-draining in the time rate."""
+FREE_DRAINING_DEGREE = 0.99
+"""A layer open to a drained boundary is free-draining in the time rate when its own degree
+of consolidation reaches this by the first time of the estimate (see :func:`free_draining`)."""
 
 _TOL = 1e-9
 
@@ -42,7 +44,6 @@ class LayerData:
     material: Material
     kwargs: dict              # settlement.Layer keyword arguments except thickness
     permeability_v: float
-    free_draining: bool = False
 
 
 def _oed_path(m: Material, key: str) -> str:
@@ -177,34 +178,70 @@ def layer_data(model: Model, j: int, notes: list[str]) -> LayerData:
     return LayerData(j, ly.name, m, kw, k_v)
 
 
-def mark_free_draining(model: Model, data: list[LayerData], notes: list[str]) -> None:
-    """Apply the free-draining rule (see :data:`FREE_DRAINING_RATIO`) to the model's layers."""
-    k = np.array([d.permeability_v for d in data])
-    if k.size < 2:
-        return
-    candidate = k >= FREE_DRAINING_RATIO * k.min()
-    dr = model.drainage
-    n = len(data)
+def free_draining(col: "Column", sigma_v0: NDArray[np.float64], first_time: float,
+                  drainage, gamma_w: float) -> tuple[NDArray[np.bool_], list[str]]:
+    """Which layers of a column the time rate treats as free-draining, and why (notes).
+
+    A layer is free-draining (its pore pressure stays zero, its settlement follows the load)
+    when its own consolidation is over before the first time of the estimate and it reaches a
+    drained boundary directly or through other such layers: its own degree of consolidation
+    reaches :data:`FREE_DRAINING_DEGREE` by ``first_time``, i.e. ``T_v = c_v t / H^2`` at the
+    first time is at least Terzaghi's (1925) ``T_v`` for that degree, with the whole thickness
+    H at x as the drainage path and the slowest c_v of the layer (k / (m_v gamma_w) with the
+    largest m_v it can have, the compression line at sigma'_v0, or its c_v). A layer that is
+    not open to a drained boundary stays in the column with its own k and m_v, whatever its c_v.
+
+    ``sigma_v0``: (n,) initial effective stress at the middle of each hand layer of ``col``.
+    Returns per hand layer of ``col`` the flag, and one note per model layer treated so.
+    """
+    n = len(col.layers)
     free = np.zeros(n, dtype=bool)
-    if dr.sides:
-        free |= candidate
-    if dr.top:
+    if not first_time > 0.0 or n < 2:
+        return free, []
+    tv_needed = float(terzaghi_time_factor(FREE_DRAINING_DEGREE))
+    key = [d.model_index for d in col.data]
+    thick: dict[int, float] = {}
+    cv: dict[int, float] = {}
+    for i, (ly, j) in enumerate(zip(col.layers, key)):
+        thick[j] = thick.get(j, 0.0) + ly.thickness
+        if ly.cv is not None:
+            c = float(ly.cv)
+        else:
+            if ly.compressibility == "mv":
+                mv = float(ly.mv)
+            elif ly.compressibility == "log":
+                mv = ly.compression_index / ((1.0 + ly.void_ratio) * math.log(10.0)
+                                             * max(float(sigma_v0[i]), 1e-9))
+            else:
+                mv = 0.0
+            c = math.inf if mv <= 0.0 else float(ly.permeability) / (mv * gamma_w)
+        cv[j] = min(cv.get(j, math.inf), c)
+    tv = {j: (math.inf if math.isinf(cv[j]) else cv[j] * first_time / thick[j] ** 2) for j in thick}
+    quick = np.array([tv[j] >= tv_needed for j in key])
+    if drainage.sides:
+        free |= quick
+    if drainage.top:
         for i in range(n):
-            if not candidate[i]:
+            if not quick[i]:
                 break
             free[i] = True
-    if dr.base:
+    if drainage.base:
         for i in range(n - 1, -1, -1):
-            if not candidate[i]:
+            if not quick[i]:
                 break
             free[i] = True
-    for d, f in zip(data, free):
-        d.free_draining = bool(f)
-        if f:
-            notes.append(f"layer {d.name!r}: free-draining in the time rate (vertical permeability "
-                         f"{d.permeability_v:.3g} m/day, at least {FREE_DRAINING_RATIO:g} times the "
-                         f"smallest of the layers, {k.min():.3g} m/day, and open to a drained "
-                         "boundary).")
+    notes = []
+    for j in dict.fromkeys(key):
+        sel = [i for i in range(n) if key[i] == j]
+        if free[sel].any():
+            name = col.data[sel[0]].name
+            t_own = tv_needed * thick[j] ** 2 / cv[j] if not math.isinf(cv[j]) else 0.0
+            notes.append(f"layer {name!r}: free-draining in the time rate: its own consolidation "
+                         f"reaches {FREE_DRAINING_DEGREE:.0%} in {t_own:.3g} days (c_v = "
+                         f"{cv[j]:.3g} m2/day over its {thick[j]:.3g} m; Terzaghi 1925), before "
+                         f"the first time of the estimate, {first_time:.3g} days, and it is open "
+                         "to a drained boundary.")
+    return free, notes
 
 
 # ============================================================================ column
@@ -217,7 +254,7 @@ class Column:
     layers: list[settlement.Layer]
     data: list[LayerData]          # per hand layer
     tops: NDArray[np.float64]       # (n + 1,) depths of the layer faces, m
-    free: NDArray[np.bool_]         # (n,)
+    free: NDArray[np.bool_]         # (n,) free-draining in the time rate (see free_draining)
     eu: NDArray[np.float64]         # (n,) undrained modulus, kPa (NaN: unknown)
 
 
@@ -270,8 +307,7 @@ def build_column(model: Model, data: list[LayerData], x: float, split: Sequence[
             e = 3.0 * (1.0 + m.void_ratio) * p0 / m.kappa * (1.0 - 2.0 * m.poisson_ratio)
         if e is not None:
             eu[i] = 1.5 * e / (1.0 + m.poisson_ratio)
-    free = np.array([d.free_draining for d in datas])
-    return Column(float(x), layers, datas, tops_a, free, eu)
+    return Column(float(x), layers, datas, tops_a, np.zeros(len(layers), dtype=bool), eu)
 
 
 # ------------------------------------------------------------------ immediate settlement

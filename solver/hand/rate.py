@@ -16,7 +16,9 @@ from typing import Callable, Sequence
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
+from scipy.interpolate import PchipInterpolator
 from scipy.linalg import get_lapack_funcs
+from scipy.optimize import brentq
 
 from solver import CAUTION
 from solver.analytic import olson_ramp_average_degree, terzaghi_average_degree, terzaghi_time_factor
@@ -32,6 +34,7 @@ __all__ = [
     "LoadPiece",
     "LayeredConsolidation",
     "first_time_reaching",
+    "layer_permeability",
     "layered_consolidation",
     "probe_consolidation",
 ]
@@ -203,7 +206,13 @@ class LayeredConsolidation:
 
 
 def first_time_reaching(times: ArrayLike, values: ArrayLike, level: float) -> float:
-    """First time at which ``values`` reaches ``level``, linear between samples; NaN if never."""
+    """First time at which ``values`` reaches ``level``; NaN if never.
+
+    Between the two samples that bracket the first crossing the curve is interpolated by a
+    monotone cubic in log time (Fritsch & Carlson 1980, *Monotone piecewise cubic
+    interpolation*, SIAM J. Numer. Anal. 17), which follows a consolidation curve sampled a
+    few times per decade to about 0.1 % in time; linear from t = 0 to the first time.
+    """
     t = np.asarray(times, dtype=float)
     u = np.asarray(values, dtype=float)
     idx = np.flatnonzero(u >= level)
@@ -213,7 +222,16 @@ def first_time_reaching(times: ArrayLike, values: ArrayLike, level: float) -> fl
     if i == 0:
         return float(t[0])
     t0, t1, u0, u1 = t[i - 1], t[i], u[i - 1], u[i]
-    return float(t0 + (level - u0) * (t1 - t0) / (u1 - u0))
+    linear = float(t0 + (level - u0) * (t1 - t0) / (u1 - u0))
+    lo, hi = max(i - 3, 0), min(i + 3, t.size)
+    keep = t[lo:hi] > 0.0
+    if t0 <= 0.0 or np.count_nonzero(keep) < 3:
+        return linear
+    curve = PchipInterpolator(np.log(t[lo:hi][keep]), u[lo:hi][keep])
+    a, b = np.log(t0), np.log(t1)
+    if not curve(a) < level <= curve(b):
+        return linear
+    return float(np.exp(brentq(lambda x: float(curve(x)) - level, a, b, xtol=1e-12)))
 
 
 def _layer_array(values: ArrayLike, n: int, name: str, names: Sequence[str], allow_zero: NDArray[np.bool_]
@@ -255,7 +273,8 @@ def layered_consolidation(thickness: ArrayLike, mv: ArrayLike, permeability: Arr
                           names: Sequence[str] | None = None, element_size: float | None = None,
                           min_elements_per_layer: int = 24, growth: float = 1.02,
                           gamma_w: float = GAMMA_W, load_history: Sequence[LoadPiece] | None = None,
-                          depths: ArrayLike | None = None) -> LayeredConsolidation:
+                          depths: ArrayLike | None = None, any_sign: bool = False
+                          ) -> LayeredConsolidation:
     """One-dimensional consolidation of a stack of unlike layers (finite differences).
 
     Solves ``mv du/dt = d/dz (k/gamma_w du/dz) + mv d sigma/dt`` (Terzaghi 1925,
@@ -320,6 +339,11 @@ def layered_consolidation(thickness: ArrayLike, mv: ArrayLike, permeability: Arr
         Depths (m) at which the excess pore pressure is recorded at every step, and below
         which the degree of consolidation of the rest of the column is recorded
         (``history_degree_below``; a depth at a layer interface splits it exactly).
+    any_sign : bool
+        Accept a load of any sign (an unloading, or one whose ``sum mv * load * dz`` is zero):
+        the degrees are then relative to ``sum mv |load| dz``, the stepping ends at the
+        last output time and the histories hold the output times only (for the excess pore
+        pressure of one increment of a history).
 
     Returns
     -------
@@ -384,6 +408,8 @@ def layered_consolidation(thickness: ArrayLike, mv: ArrayLike, permeability: Arr
     incs = np.array([profile(pc.increase) for pc in pieces])          # (n_pieces, nn)
     sigma_full = incs.sum(axis=0)
     final = float(np.sum(cap * sigma_full))
+    if any_sign and not final > 0.0:
+        final = float(np.sum(cap * np.abs(sigma_full))) or 1.0
     if not final > 0.0:
         raise InputError("the load gives no consolidation settlement (sum of mv * load * dz is not > 0)",
                          field="load_increase", fix="give a positive load increase and mv > 0")
@@ -473,7 +499,8 @@ def layered_consolidation(thickness: ArrayLike, mv: ArrayLike, permeability: Arr
     step = 0
     while True:
         done_outputs = t >= t_stop_min * (1.0 - 1e-12)
-        if done_outputs and (hist_u[-1] >= STOP_DEGREE or t >= t_limit or n_drained == 0 and not fd.any()):
+        if done_outputs and (any_sign or hist_u[-1] >= STOP_DEGREE or t >= t_limit
+                             or n_drained == 0 and not fd.any()):
             break
         step_dt = dt
         hit = None
@@ -499,10 +526,11 @@ def layered_consolidation(thickness: ArrayLike, mv: ArrayLike, permeability: Arr
             if np.any(jump != 0.0):           # sudden pieces starting now: undrained rise
                 u = u + np.where(free, jump, 0.0)
                 sig_now = sig_now + jump
-        hist_t.append(t)
-        hist_u.append(degree(u, sig_now))
-        hist_ub.append(degree_below(u, sig_now))
-        hist_p.append(at_depths(u))
+        if hit is not None or not any_sign:     # any_sign: the outputs only (one increment)
+            hist_t.append(t)
+            hist_u.append(degree(u, sig_now))
+            hist_ub.append(degree_below(u, sig_now))
+            hist_p.append(at_depths(u))
         if hit is not None:
             for j in outputs_at.get(hit, ()):
                 out_u[j] = u
@@ -520,6 +548,23 @@ def layered_consolidation(thickness: ArrayLike, mv: ArrayLike, permeability: Arr
                                 history_degree_below=np.asarray(hist_ub).reshape(len(hist_t), dep.size),
                                 history_excess_pore_pressure_kPa=np.asarray(hist_p).reshape(len(hist_t),
                                                                                             dep.size))
+
+
+def layer_permeability(layer: Layer, mv: ArrayLike, gamma_w: float = GAMMA_W,
+                       required: bool = True) -> NDArray[np.float64]:
+    """Vertical permeability (m/day) of sublayers of ``layer`` with compressibility ``mv``
+    (1/kPa): the layer's ``permeability``, or ``cv mv gamma_w`` from its ``cv``; zeros when it
+    gives neither and is not ``required`` (a free-draining layer)."""
+    mv = np.asarray(mv, dtype=float)
+    if layer.permeability is not None:
+        return np.full(mv.shape, float(layer.permeability))
+    if layer.cv is not None:
+        return layer.cv * mv * gamma_w
+    if required:
+        raise InputError(f"layer '{layer.name}': permeability (or cv) is missing for the time rate",
+                         field=f"layers.{layer.name}.permeability",
+                         fix=f"give permeability (m/day) or cv (m2/day) for layer '{layer.name}'")
+    return np.zeros(mv.shape)
 
 
 def probe_consolidation(layers: Sequence[Layer], probe: ProbeSettlement, times: ArrayLike, *,
@@ -573,14 +618,7 @@ def probe_consolidation(layers: Sequence[Layer], probe: ProbeSettlement, times: 
             with np.errstate(divide="ignore", invalid="ignore"):
                 secant = probe.settlement_m[sel] / (hs[sel] * ds[sel])
             mv[sel] = np.where(small[sel] | ~(secant > 0.0), tangent, secant)
-        if layer.permeability is not None:
-            k[sel] = layer.permeability
-        elif layer.cv is not None:
-            k[sel] = layer.cv * mv[sel] * gamma_w
-        elif not flagged[i]:
-            raise InputError(f"layer '{layer.name}': permeability (or cv) is missing for the time rate",
-                             field=f"layers.{layer.name}.permeability",
-                             fix=f"give permeability (m/day) or cv (m2/day) for layer '{layer.name}'")
+        k[sel] = layer_permeability(layer, mv[sel], gamma_w, required=not flagged[i])
     zm = probe.mid
 
     def at_nodes(values: ArrayLike) -> float | Callable[[NDArray[np.float64]], NDArray[np.float64]]:
