@@ -479,8 +479,8 @@ def _probe_estimate(model, pr, d, col, sol, j, final_2to1, loads, active, pieces
                       "the probe.")
     u_fine = st.excess_pore_pressure_kPa[:, j]
     u_probe = np.interp(t_out, tf, u_fine)
-    drained_here = (d <= 1e-9 and bool(model.drainage.top)) or bool(
-        np.any(col.free[[i for i in range(len(col.layers)) if col.tops[i] - 1e-9 <= d <= col.tops[i + 1] + 1e-9]]))
+    in_free = (col.tops[:-1] - 1e-9 <= d) & (d <= col.tops[1:] + 1e-9) & col.free
+    drained_here = (d <= 1e-9 and bool(model.drainage.top)) or bool(in_free.any())
     u_max = float("nan") if drained_here or not st.increments else float(np.max(u_fine))
     stage_rows = _stage_rows(st, spans, below, tf, s_fine)
     _history_notes(st, spans, below, stage_rows, pnotes)

@@ -60,7 +60,8 @@ _LN10 = math.log(10.0)
 class Increment:
     """One change of the vertical total stress: ``stress_change_kPa`` (n_sub,) at the sublayer
     mid-depths, ramped on linearly from ``start_days`` over ``duration_days`` (0: at once);
-    ``stage``: the stage that makes it (its index, as text, for :meth:`StagedConsolidation.ultimate_after`)."""
+    ``stage``: the stage that makes it (its index, as text, for
+    :meth:`StagedConsolidation.ultimate_after`)."""
     start_days: float
     duration_days: float
     stress_change_kPa: NDArray[np.float64]
