@@ -162,7 +162,9 @@ def fine_times(times: ArrayLike, starts: Sequence[float], ends: Sequence[float],
         if span > 0.0:
             t.append(t0 + np.geomspace(span * 1e-6, span, n_per_piece))
     grid = np.unique(np.concatenate([np.asarray(a, dtype=float).ravel() for a in t]))
-    return grid[(grid >= 0.0) & (grid <= t_last * (1.0 + 1e-12))]
+    grid = grid[(grid >= 0.0) & (grid <= t_last * (1.0 + 1e-12))]
+    distinct = np.concatenate([[True], np.diff(grid) > 1e-12 * np.maximum(grid[1:], 1.0)])
+    return grid[distinct]
 
 
 def _averaging(z: NDArray[np.float64], top: NDArray[np.float64], bottom: NDArray[np.float64]

@@ -224,10 +224,11 @@ def first_time_reaching(times: ArrayLike, values: ArrayLike, level: float) -> fl
     t0, t1, u0, u1 = t[i - 1], t[i], u[i - 1], u[i]
     linear = float(t0 + (level - u0) * (t1 - t0) / (u1 - u0))
     lo, hi = max(i - 3, 0), min(i + 3, t.size)
-    keep = t[lo:hi] > 0.0
+    lt = np.log(np.where(t[lo:hi] > 0.0, t[lo:hi], np.nan))
+    keep = np.isfinite(lt) & np.concatenate([[True], np.diff(lt) > 1e-12])
     if t0 <= 0.0 or np.count_nonzero(keep) < 3:
         return linear
-    curve = PchipInterpolator(np.log(t[lo:hi][keep]), u[lo:hi][keep])
+    curve = PchipInterpolator(lt[keep], u[lo:hi][keep])
     a, b = np.log(t0), np.log(t1)
     if not curve(a) < level <= curve(b):
         return linear
