@@ -8,6 +8,7 @@ import sys
 from pathlib import Path
 
 from . import CAUTION, __version__
+from .boundary import describe_written, run_step, step
 from .errors import PoroplaneError
 
 EXIT_BAD_INPUT = 2
@@ -59,14 +60,31 @@ def _bench(args) -> int:
 
 def _load(path: str):
     from .model import load_model
-    return load_model(path)
+    with step("reading", path):
+        return load_model(path)
+
+
+def _warnings(model) -> list[str]:
+    """Everything worth a second look: the model's warnings and values outside the range of
+    real soils."""
+    from .model import model_warnings
+    from .plausibility import plausibility_warnings
+    return model_warnings(model) + plausibility_warnings(model)
+
+
+def _set_up(args, model, backend=None):
+    """Mesh and set up, each inside its step's boundary."""
+    from .sections import build_mesh
+    from .simulation import Simulation
+    with step("meshing", args.model, model):
+        mesh = build_mesh(model)
+    with step("set-up", args.model, model):
+        return Simulation(model, mesh=mesh, backend=backend)
 
 
 def _check(args) -> int:
-    from .simulation import Simulation
-    from .model import domain_warnings
     model = _load(args.model)
-    sim = Simulation(model)
+    sim = _set_up(args, model)
     mesh, pb = sim.mesh, sim.problem
     total = sum(s.duration for s in model.stages)
     print(f"{model.title}")
@@ -83,17 +101,30 @@ def _check(args) -> int:
         print(f"    {st.name:24s} {what:28s} {st.duration:10,.1f} days{extra}")
     print(f"  probes        {', '.join(sim.probe_names) or '(none)'}")
     print(f"  lines         {', '.join(ln.name for ln in model.lines) or '(none)'}")
-    for w in domain_warnings(model):
+    for w in _warnings(model):
         print(f"  warning: {w}")
     print("Model is valid; nothing was solved.")
     return 0
 
 
+MESH_FORMATS = {".msh": "Gmsh 2.2", ".vtu": "VTK XML", ".vtk": "legacy VTK"}
+
+
 def _mesh(args) -> int:
+    from .errors import InputError
     from .sections import build_mesh
+    suffix = Path(args.output).suffix.lower()
+    if suffix not in MESH_FORMATS:
+        raise InputError(f"cannot write a mesh to {args.output!r}: "
+                         + (f"{suffix} is not a mesh format" if suffix else "no extension"),
+                         field="--output", fix="give a file name ending in one of "
+                         + ", ".join(f"{e} ({w})" for e, w in MESH_FORMATS.items())
+                         + ", e.g. -o section.msh.")
     model = _load(args.model)
-    mesh = build_mesh(model)
-    mesh.write(args.output)
+    with step("meshing", args.model, model):
+        mesh = build_mesh(model)
+    with step(f"writing {args.output}", args.model):
+        mesh.write(args.output)
     print(f"wrote {args.output}: {mesh.n_elements} triangles, {mesh.n_nodes} nodes, "
           f"regions {mesh.region_names}, edges {sorted(mesh.edges)}")
     return 0
@@ -101,27 +132,30 @@ def _mesh(args) -> int:
 
 def _run(args) -> int:
     from .runner import run
-    from .simulation import Simulation
-    from .model import domain_warnings
     from .model import dump_toml
     model = _load(args.model)
     # The model as read (units converted, paths resolved), so the run folder stands alone.
     text = (f"# The model as poroplane read it from {Path(args.model).resolve()}\n"
             "# (quantities in the default units, paths absolute).\n" + dump_toml(model))
-    for w in domain_warnings(model):
+    for w in _warnings(model):
         print(f"warning: {w}", file=sys.stderr)
-    sim = Simulation(model, backend=args.linear_solver)
+    sim = _set_up(args, model, backend=args.linear_solver)
     out = Path(args.output)
     print(f"{model.title}: {sim.mesh.n_elements} triangles, {sim.problem.disc.n_dofs} unknowns, "
           f"{len(model.stages)} stages -> {out}/", file=sys.stderr)
     try:
-        result = run(sim, out, resume=args.resume, progress=not args.quiet, model_text=text)
+        with step("stepping", args.model, model, written=lambda: describe_written(out),
+                  classify=run_step):
+            result = run(sim, out, resume=args.resume, progress=not args.quiet,
+                         model_text=text)
     except KeyboardInterrupt:
         print(f"interrupted: finished steps are kept in {out}/; continue with "
               f"'poroplane run {args.model} -o {out} --resume'", file=sys.stderr)
         return 130
     from .comparison import add_comparison, format_table
-    rows, message = add_comparison(model, result.probes, out)
+    done = f"The run is complete in {out}/."
+    with step("the hand-method comparison", args.model, model, written=done):
+        rows, message = add_comparison(model, result.probes, out)
     if rows is None:
         print(f"warning: no hand-method comparison: {message}", file=sys.stderr)
     else:
@@ -131,10 +165,12 @@ def _run(args) -> int:
           f"{result.info['wall_seconds']:.1f} s)")
     if args.mesh_study:
         from .mesh_study import mesh_study
-        print(mesh_study(model, sim, result, backend=args.linear_solver))
+        with step("the mesh study", args.model, model, written=done):
+            print(mesh_study(model, sim, result, backend=args.linear_solver))
     if not args.no_plots:
         from .plots import plot_command
-        paths = plot_command(out)
+        with step("plotting", out, written=done):
+            paths = plot_command(out)
         print(f"{len(paths)} plots and pictures in {(out / 'plots').resolve()}; "
               f"'poroplane report {out}' writes the report")
     print(CAUTION)
@@ -143,7 +179,8 @@ def _run(args) -> int:
 
 def _plot(args) -> int:
     from .plots import plot_command
-    paths = plot_command(Path(args.results), times=args.times)
+    with step("plotting", args.results):
+        paths = plot_command(Path(args.results), times=args.times)
     for p in paths:
         print(p)
     print(CAUTION)
@@ -152,7 +189,8 @@ def _plot(args) -> int:
 
 def _report(args) -> int:
     from .report import report_command
-    path = report_command(Path(args.results))
+    with step("writing the report", args.results):
+        path = report_command(Path(args.results))
     print(f"wrote {path.resolve()} (self-contained; open it in a browser)")
     print(CAUTION)
     return 0
@@ -161,13 +199,16 @@ def _report(args) -> int:
 def _hand(args) -> int:
     from .comparison import hand_report
     from .hand.estimate import hand_estimate
-    print(hand_report(hand_estimate(_load(args.model))))
+    model = _load(args.model)
+    with step("the hand method", args.model, model):
+        print(hand_report(hand_estimate(model)))
     return 0
 
 
 def _compare(args) -> int:
     from .comparison import compare_run_dir
-    print(compare_run_dir(Path(args.results)))
+    with step("the comparison", args.results):
+        print(compare_run_dir(Path(args.results)))
     return 0
 
 
@@ -204,7 +245,8 @@ def build_parser() -> argparse.ArgumentParser:
     command("check", _check, "read, check and mesh a model file; solve nothing", model)
 
     m = command("mesh", _mesh, "write the mesh of a model", model)
-    m.add_argument("-o", "--output", required=True, help="mesh file to write (.msh, .vtu, ...)")
+    m.add_argument("-o", "--output", required=True,
+                   help="mesh file to write: .msh (Gmsh 2.2), .vtu or .vtk")
 
     r = command("run", _run, "solve a model through its stages, streaming results", model)
     r.add_argument("-o", "--output", required=True, help="folder for the results")
@@ -247,6 +289,12 @@ def main(argv: list[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("poroplane: interrupted", file=sys.stderr)
         return 130
+    except Exception as exc:  # noqa: BLE001 - the last boundary: no raw traceback
+        if args.debug:
+            raise
+        print(f"poroplane: error: {args.command} failed ({type(exc).__name__}: {exc}). "
+              "Rerun with --debug for the traceback.", file=sys.stderr)
+        return EXIT_BAD_INPUT
 
 
 if __name__ == "__main__":
