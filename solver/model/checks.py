@@ -10,12 +10,14 @@ from typing import Any
 
 from ..errors import InputError
 from ..units import KINDS, describe_value
+from .bounds import check_bounds, check_physical
 from .domain import _is_half, _outside, domain_extent, domain_warnings
 from .fields import _join, _key, _Reader, _suggest
 from .rules import (_BERM_RULES, _DRAINAGE_RULES, _EMBANKMENT_RULES, _FOOTING_RULES,
                     _LAYER_RULES, _LINE_RULES, _LOAD_RULES, _MATERIAL_RULES, _MODEL_RULES,
                     _OEDOMETER_RULES, _OUTPUT_RULES, _POSITIVE_DURATION, _PROBE_RULES,
                     _SECTION_RULES, _STAGE_RULES, _TIME_STEP_RULES, _WATER_RULES, _Rule)
+from .plausible import plausibility_warnings
 from .schema import _REL_TOL, Embankment, Layer, Material, Model
 
 def _fail(model: Model, message: str, path: str | None, fix: str) -> None:
@@ -111,6 +113,10 @@ def check_model(model: Model) -> None:
                      f"({ts.first_step:g} days)", "time_steps.max_step",
               "make max_step at least first_step, or leave it out (no cap).")
     _check_fields(model, model.output, "output", _OUTPUT_RULES)
+    # Values that can only be slips, and what is physically impossible (solver.model.bounds):
+    # before the probes, whose place a slip in the geometry would make look wrong.
+    check_bounds(model)
+    check_physical(model)
     _check_probes(model)
 
 
@@ -494,7 +500,9 @@ def _check_probes(model: Model) -> None:
 
 def model_warnings(model: Model) -> list[str]:
     """Everything worth a second look that is not an error: :func:`domain_warnings`, lifts
-    never placed, loads never applied, output times after the last stage."""
+    never placed, loads never applied, the water table below the base, output times after
+    the last stage, and values outside the range of real soils
+    (:func:`~solver.model.plausible.plausibility_warnings`)."""
     out = domain_warnings(model)
     sec = model.section
     if sec.kind == "embankment" and sec.embankment is not None:
@@ -516,7 +524,7 @@ def model_warnings(model: Model) -> list[str]:
     if late:
         out.append(f"output times after the last stage ends ({end:g} days) are never "
                    f"reached: {', '.join(f'{t:g}' for t in late)} days.")
-    return out
+    return out + plausibility_warnings(model)
 
 
 def check_mesh_names(model: Model, mesh) -> None:
