@@ -128,45 +128,9 @@ def run_step(exc: BaseException) -> str:
 
 # ----------------------------------------------------------------------------- likely field
 
-def geometry_lengths(model) -> list[tuple[str, float]]:
-    """(TOML path, value in m) of every length that shapes the section."""
-    out: list[tuple[str, float]] = []
-    sec = model.section
-    for key in ("width", "depth", "mesh_size"):
-        v = getattr(sec, key, None)
-        if v is not None:
-            out.append((f"section.{key}", v))
-    for i, la in enumerate(model.layers):
-        out.append((f"layers[{i + 1}].thickness", la.thickness))
-        if la.thickness_right is not None:
-            out.append((f"layers[{i + 1}].thickness_right", la.thickness_right))
-    emb = sec.embankment if sec.kind == "embankment" else None
-    if emb is not None:
-        p = "section.embankment"
-        out += [(f"{p}.crest_width", emb.crest_width), (f"{p}.height", emb.height)]
-        if emb.side_slope is not None and emb.height is not None:
-            out.append((f"{p}.side_slope", emb.side_slope * emb.height))
-        out += [(f"{p}.lifts[{i + 1}]", t) for i, t in enumerate(emb.lifts)]
-        for i, b in enumerate(emb.berms):
-            out += [(f"{p}.berms[{i + 1}].width", b.width),
-                    (f"{p}.berms[{i + 1}].height", b.height)]
-    if sec.kind == "footings":
-        for i, f in enumerate(sec.footings):
-            p = f"section.footings[{i + 1}]"
-            out.append((f"{p}.width", f.width))
-            if f.center:
-                out.append((f"{p}.center", abs(f.center)))
-            if f.embedment:
-                out.append((f"{p}.embedment", f.embedment))
-    for i, ld in enumerate(model.loads):
-        out.append((f"loads[{i + 1}].x_right", abs(ld.x_right - ld.x_left)))
-    return [(p, float(v)) for p, v in out
-            if isinstance(v, (int, float)) and not isinstance(v, bool)]
-
-
 def count_outliers(model) -> list[tuple[str, str]]:
-    """(path, why) of counts beyond their sane maximum (:mod:`solver.plausibility`)."""
-    from .plausibility import MAX_LINE_POINTS, MAX_STEPS_PER_LEVEL
+    """(path, why) of counts beyond their sane maximum (:mod:`solver.model.bounds`)."""
+    from .model.bounds import MAX_LINE_POINTS, MAX_STEPS_PER_LEVEL
     out = [(f"lines[{i + 1}].points", f"{ln.points:g} points")
            for i, ln in enumerate(model.lines) if ln.points > MAX_LINE_POINTS]
     if model.time_steps.steps_per_level > MAX_STEPS_PER_LEVEL:
@@ -175,9 +139,10 @@ def count_outliers(model) -> list[tuple[str, str]]:
 
 
 def geometry_outlier(model) -> list[tuple[str, str]]:
-    """The length of the section furthest (by a factor of more than 30) from the median of
-    its lengths, as [(path, why)], or []."""
-    lengths = geometry_lengths(model)
+    """The length of the section (a thickness, a width, the element size) furthest, by a
+    factor of more than 30, from the median of its lengths, as [(path, why)], or []."""
+    from .model.bounds import section_lengths
+    lengths = [(p, v) for p, v, role, _ in section_lengths(model) if role != "coordinate"]
     positive = sorted(abs(v) for _, v in lengths if v and math.isfinite(v))
     if not positive:
         return []
@@ -186,16 +151,12 @@ def geometry_outlier(model) -> list[tuple[str, str]]:
     for p, v in lengths:
         if not math.isfinite(v):
             return [(p, f"{v:g} m")]
-        if not v:
-            continue
-        s = abs(math.log10(abs(v) / median))
-        if s > score:
-            best, score = (p, v), s
+        if v and abs(math.log10(abs(v) / median)) > score:
+            best, score = (p, v), abs(math.log10(abs(v) / median))
     if best is None:
         return []
-    p, v = best
-    shown = f"side_slope x height = {v:g} m" if p.endswith("side_slope") else f"{v:g} m"
-    return [(p, f"{shown}, against a median length of {median:g} m in the section")]
+    return [(best[0], f"{best[1]:g} m, against a median length of {median:g} m in the "
+                      "section")]
 
 
 def likely_field(model, step_name: str) -> tuple[str | None, str | None]:
@@ -203,10 +164,10 @@ def likely_field(model, step_name: str) -> tuple[str | None, str | None]:
 
     Meshing: a length of the section far (a factor of 30) from the median of its lengths.
     Other steps: a count beyond its sane maximum, then the value furthest outside the range
-    of real soils (:func:`solver.plausibility.out_of_range`), then the geometry.
+    of real soils (:func:`solver.model.plausible.out_of_range`), then the geometry.
     """
     try:
-        from .plausibility import out_of_range
+        from .model.plausible import out_of_range
         if step_name == "meshing":
             tries = (geometry_outlier,)
         else:

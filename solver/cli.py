@@ -65,11 +65,9 @@ def _load(path: str):
 
 
 def _warnings(model) -> list[str]:
-    """Everything worth a second look: the model's warnings and values outside the range of
-    real soils."""
+    """Everything worth a second look, values outside the range of real soils included."""
     from .model import model_warnings
-    from .plausibility import plausibility_warnings
-    return model_warnings(model) + plausibility_warnings(model)
+    return model_warnings(model)
 
 
 def _set_up(args, model, backend=None):
