@@ -7,6 +7,18 @@ sigma'_v0 = integral of the effective unit weight from the ground surface down (
 weight above the water table, saturated unit weight minus gamma_w below), sigma'_h0 =
 K0 sigma'_v0 with K0 = 1 - sin(phi') (Jaky 1944) when a friction angle is given, else the
 elastic at-rest value nu / (1 - nu) (common practice), unless K0 is given.
+
+A Modified Cam Clay layer without ``k0`` starts where one-dimensional compression to its
+preconsolidation sigma'_p and unloading to sigma'_v0 leave it in the model itself: on the
+normal compression line at the model's own K0 of normal consolidation (K0nc,
+``CamClayMaterial.k0_normally_consolidated``) when normally consolidated, and on the elastic
+unloading line from there otherwise, sigma'_h0 = K0nc sigma'_p - nu / (1 - nu)
+(sigma'_p - sigma'_v0) (the elastic part of the model has a constant Poisson's ratio, so
+one-dimensional unloading changes sigma'_h by nu / (1 - nu) of the change of sigma'_v;
+Wood 1990, Soil Behaviour and Critical State Soil Mechanics, ch. 7, from memory). A
+normally consolidated layer then starts on its yield surface and compresses along the
+normal compression line at once.
+
 Stresses here are compression positive.
 """
 
@@ -19,13 +31,55 @@ import numpy as np
 from .model import Material, Model
 
 
+def cam_clay(m: Material):
+    """The Modified Cam Clay skeleton of a model material."""
+    from .materials.camclay import CamClayMaterial
+    return CamClayMaterial(lambda_=m.lambda_, kappa=m.kappa, e0=m.void_ratio, M=m.M,
+                           phi_cs=m.friction_angle if m.M is None else None,
+                           poisson_ratio=m.poisson_ratio,
+                           permeability_x=m.permeability_x, permeability_y=m.permeability_y,
+                           permeability_change_index=m.permeability_change_index,
+                           biot_coefficient=m.biot_coefficient, storage=m.storage,
+                           unit_weight=m.unit_weight, name=m.name)
+
+
 def at_rest_coefficient(m: Material) -> float:
-    """K0 of a material: given, else Jaky (1944) from phi', else nu / (1 - nu)."""
+    """K0 of a material in normal consolidation: given, else the model's own for Modified
+    Cam Clay, else Jaky (1944) from phi', else nu / (1 - nu)."""
     if m.k0 is not None:
         return float(m.k0)
+    if m.model == "modified cam clay":
+        return float(cam_clay(m).k0_normally_consolidated())
     if m.friction_angle is not None:
         return 1.0 - np.sin(np.radians(m.friction_angle))
     return m.poisson_ratio / (1.0 - m.poisson_ratio)
+
+
+def vertical_preconsolidation(m: Material, sv: np.ndarray) -> np.ndarray:
+    """sigma'_p (kPa) from a material's oedometer table at points of sigma'_v0 = ``sv``: the
+    given pressure, sigma'_v0 + margin or OCR sigma'_v0; never below sigma'_v0 (none given:
+    normally consolidated)."""
+    oed = m.oedometer
+    sv = np.asarray(sv, float)
+    if oed.preconsolidation_pressure is not None:
+        sp = np.full(sv.shape, float(oed.preconsolidation_pressure))
+    elif oed.preconsolidation_margin is not None:
+        sp = sv + oed.preconsolidation_margin
+    else:
+        sp = sv * (oed.overconsolidation_ratio or 1.0)
+    return np.maximum(sp, sv)
+
+
+def at_rest_horizontal(m: Material, sv: np.ndarray) -> np.ndarray:
+    """sigma'_h0 (kPa, compression positive) at points of sigma'_v0 = ``sv`` (kPa): K0 sigma'_v0
+    (:func:`at_rest_coefficient`), or for a Modified Cam Clay material without ``k0`` its
+    own one-dimensional loading to sigma'_p and unloading (module notes)."""
+    sv = np.asarray(sv, float)
+    if m.k0 is not None or m.model != "modified cam clay":
+        return at_rest_coefficient(m) * sv
+    sp = vertical_preconsolidation(m, sv)
+    nu = m.poisson_ratio
+    return at_rest_coefficient(m) * sp - nu / (1.0 - nu) * (sp - sv)
 
 
 def _saturated(m: Material) -> float:
@@ -89,23 +143,27 @@ def geostatic_stress(column: LayerColumn, water_table: float, gamma_w: float,
     sv += gamma_w * max(water_table, 0.0)                    # free water above the ground
     u0 = gamma_w * np.maximum(water_table - y, 0.0)
     sv_eff = sv - u0
-    k0 = np.array([at_rest_coefficient(m) for m in column.materials])[column.layer_index(x, y)]
+    layer = column.layer_index(x, y)
+    sh_eff = np.zeros_like(sv_eff)
+    for j, m in enumerate(column.materials):
+        here = layer == j
+        sh_eff[here] = at_rest_horizontal(m, sv_eff[here])
     return {"hydrostatic_kPa": u0, "vertical_effective_kPa": sv_eff,
-            "horizontal_effective_kPa": k0 * sv_eff}
+            "horizontal_effective_kPa": sh_eff}
 
 
 class MeshOverburden:
     """Initial state on a user mesh: the overburden integrated down vertical columns.
 
     ``unit_weights`` maps the regions present at the start to (unit weight, saturated unit
-    weight, K0); other regions (placed later) weigh nothing. The ground at a column is the
+    weight, K0 or the Material, whose :func:`at_rest_horizontal` is then used); other regions (placed later) weigh nothing. The ground at a column is the
     highest point of a starting region there. The integral is taken once on a raster of
     ``columns`` x ``rows`` samples over the mesh's bounding box (midpoint rule); calling the
     object interpolates it linearly to points: an approximation of the order of the raster
     spacing times the unit weight, stated in docs/model.md.
     """
 
-    def __init__(self, mesh, unit_weights: dict[str, tuple[float, float, float]],
+    def __init__(self, mesh, unit_weights: dict[str, tuple[float, float, object]],
                  water_table: float, gamma_w: float, columns: int = 120, rows: int = 240):
         self.mesh, self.water_table, self.gamma_w = mesh, water_table, gamma_w
         lo, hi = mesh.points.min(axis=0), mesh.points.max(axis=0)
@@ -117,7 +175,12 @@ class MeshOverburden:
         names = mesh.region_names
         g_dry = np.array([unit_weights.get(n, (0.0, 0.0, 0.0))[0] for n in names] + [0.0])
         g_sat = np.array([unit_weights.get(n, (0.0, 0.0, 0.0))[1] for n in names] + [0.0])
-        self.k0s = np.array([unit_weights.get(n, (0.0, 0.0, 0.5))[2] for n in names] + [0.5])
+        # sigma'_h0 from sigma'_v0 per region: a K0, or a material (at_rest_horizontal)
+        self.horizontal = []
+        for n in names + [None]:
+            k = unit_weights[n][2] if n in unit_weights else 0.5
+            self.horizontal.append((lambda sv, k=k: k * sv) if np.isscalar(k) else
+                                   (lambda sv, m=k: at_rest_horizontal(m, sv)))
         starting = np.array([n in unit_weights for n in names] + [False])
         reg = np.where(elem >= 0, mesh.region[np.maximum(elem, 0)], len(names)).reshape(gx.shape)
         inside = starting[reg]
@@ -146,8 +209,11 @@ class MeshOverburden:
         u0 = self.gamma_w * np.maximum(self.water_table - y, 0.0)
         mesh = self.mesh
         elem_p, _ = mesh.locate(np.column_stack([x, y]))
-        k0 = self.k0s[np.where(elem_p >= 0, mesh.region[np.maximum(elem_p, 0)],
-                               len(mesh.region_names))]
+        reg = np.where(elem_p >= 0, mesh.region[np.maximum(elem_p, 0)], len(mesh.region_names))
         sv_eff = sv - u0
+        sh_eff = np.zeros_like(sv_eff)
+        for r in np.unique(reg):
+            here = reg == r
+            sh_eff[here] = self.horizontal[r](sv_eff[here])
         return {"hydrostatic_kPa": u0, "vertical_effective_kPa": sv_eff,
-                "horizontal_effective_kPa": k0 * sv_eff}
+                "horizontal_effective_kPa": sh_eff}

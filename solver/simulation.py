@@ -17,6 +17,7 @@ from __future__ import annotations
 import numpy as np
 
 from .errors import InputError
+from .initial import cam_clay
 from .fem.biot import (BiotProblem, BodyForce, Fixity, RigidPlate, State, StepSolver,
                        Traction)
 from .fem import element
@@ -53,18 +54,6 @@ class Ramp:
         if t1 <= t0:
             return self.v[k + 1]
         return self.v[k] + (self.v[k + 1] - self.v[k]) * (t - t0) / (t1 - t0)
-
-
-def cam_clay(m: Material):
-    """The Modified Cam Clay skeleton of a model material."""
-    from .materials.camclay import CamClayMaterial
-    return CamClayMaterial(lambda_=m.lambda_, kappa=m.kappa, e0=m.void_ratio, M=m.M,
-                           phi_cs=m.friction_angle if m.M is None else None,
-                           poisson_ratio=m.poisson_ratio,
-                           permeability_x=m.permeability_x, permeability_y=m.permeability_y,
-                           permeability_change_index=m.permeability_change_index,
-                           biot_coefficient=m.biot_coefficient, storage=m.storage,
-                           unit_weight=m.unit_weight, name=m.name)
 
 
 def fe_material(m: Material, gamma_w: float) -> ElasticMaterial:
@@ -277,13 +266,12 @@ class Simulation:
 
     def _initial_state(self):
         """Geostatic state at the nodes and at the probes (compression positive)."""
-        from .initial import LayerColumn, MeshOverburden, at_rest_coefficient, geostatic_stress
+        from .initial import LayerColumn, MeshOverburden, geostatic_stress
         m, mesh = self.model, self.mesh
         wt = -m.water.table_depth
         gw = m.water.unit_weight
         if m.section.kind == "mesh":
-            weights = {r: (mat.unit_weight, mat.saturated_unit_weight or mat.unit_weight,
-                           at_rest_coefficient(mat))
+            weights = {r: (mat.unit_weight, mat.saturated_unit_weight or mat.unit_weight, mat)
                        for r, mat in self.region_material.items() if r not in self.lift_regions}
             self._geostatic = MeshOverburden(mesh, weights, wt, gw)
         else:
