@@ -15,6 +15,8 @@ Signs
   finite-element core).
 - Strip and line loads on a half-space: compression positive (soil mechanics convention, as in
   Poulos & Davis 1974), z is depth, positive downward.
+- Modified Cam Clay (critical state): stresses and strains compression positive, p' and q
+  in kPa, as in Wood (1990).
 
 Array convention
 ----------------
@@ -24,13 +26,19 @@ scalar.
 
 Modules, one family of closed forms each (all import only :mod:`.arguments`):
 :mod:`.consolidation` (Terzaghi, Olson ramp), :mod:`.mandel` (Mandel's block),
-:mod:`.elastic` (line and strip loads on a half-space, Lame cylinder, oedometer modulus).
+:mod:`.elastic` (line and strip loads on a half-space, Lame cylinder, oedometer modulus),
+:mod:`.critical_state` (Modified Cam Clay at a point: compression lines, yield ellipse,
+drained and undrained triaxial paths, the e - log sigma'_v rule; compression positive).
 """
 
 from .arguments import AnalyticArgumentError
 from .consolidation import (consolidation_coefficient, olson_ramp_average_degree,
                             olson_ramp_excess_pressure, terzaghi_average_degree,
                             terzaghi_excess_pressure, terzaghi_time_factor, time_factor)
+from .critical_state import (CriticalState, critical_state_void_ratio,
+                             drained_triaxial_critical_state, one_dimensional_compression,
+                             undrained_critical_state, undrained_mean_stress,
+                             void_ratio_on_line, volumetric_strain_on_ellipse, yield_function)
 from .elastic import (CylinderSolution, PlaneStresses, flamant_line_load_stresses,
                       lame_cylinder, oedometer_modulus, strip_load_stresses)
 from .mandel import (MandelParameters, mandel_horizontal_displacement, mandel_initial_pressure,
@@ -46,5 +54,8 @@ __all__ = [
     "mandel_vertical_stress", "mandel_vertical_displacement", "mandel_horizontal_displacement",
     "PlaneStresses", "strip_load_stresses", "flamant_line_load_stresses",
     "CylinderSolution", "lame_cylinder", "oedometer_modulus",
+    "CriticalState", "void_ratio_on_line", "critical_state_void_ratio", "yield_function",
+    "volumetric_strain_on_ellipse", "drained_triaxial_critical_state", "undrained_mean_stress",
+    "undrained_critical_state", "one_dimensional_compression",
 ]
 
