@@ -12,7 +12,8 @@ from .boundary import describe_written, run_step, step
 from .errors import PoroplaneError
 
 EXIT_BAD_INPUT = 2
-CASES = ("terzaghi", "mandel", "axisymmetric", "strip_load", "convergence")
+CASES = ("terzaghi", "mandel", "axisymmetric", "strip_load", "convergence",
+         "camclay_isotropic", "camclay_drained", "camclay_undrained", "camclay_oedometer")
 
 
 def _validate(args) -> int:

@@ -14,7 +14,8 @@ import time
 from dataclasses import asdict, dataclass
 from pathlib import Path
 
-CASE_MODULES = ["terzaghi", "mandel", "axisymmetric", "strip_load", "convergence"]
+CASE_MODULES = ["terzaghi", "mandel", "axisymmetric", "strip_load", "convergence",
+                "camclay_isotropic", "camclay_drained", "camclay_undrained", "camclay_oedometer"]
 
 
 @dataclass
