@@ -246,9 +246,17 @@ class Simulation:
             else:
                 pressure = ft.load if ft.load is not None else ft.force / area
                 self.tractions.append(Traction(edge, vertical=pressure, history=ramp))
+        # Fill below the water table weighs its buoyant weight (BodyForce). The level is the
+        # one at the start (submergence as the ground settles is not followed).
+        gw, level = m.water.unit_weight, -m.water.table_depth
         for r in self.lift_regions:
             ramp = self.ramps[r] = Ramp()
-            self.body_forces.append(BodyForce(r, self.region_material[r].unit_weight, ramp))
+            mat = self.region_material[r]
+            sat = mat.saturated_unit_weight if mat.saturated_unit_weight is not None \
+                else mat.unit_weight
+            self.body_forces.append(BodyForce(r, mat.unit_weight, ramp,
+                                              submerged_unit_weight=sat - gw,
+                                              water_level=level))
 
     def _roller(self, name: str) -> Fixity:
         """A roller on a straight vertical or horizontal mesh edge: the normal component is
@@ -276,15 +284,21 @@ class Simulation:
             self._geostatic = MeshOverburden(mesh, weights, wt, gw)
         else:
             col = LayerColumn.from_model(m, mesh.points[:, 0].min(), mesh.points[:, 0].max())
-            # Points above the original ground belong to lifts, placed later and stress-free.
-            self._geostatic = lambda x, y: geostatic_stress(col, wt, gw, x, np.minimum(y, 0.0))
+            # Points above the original ground belong to lifts, placed later and stress-free;
+            # their pore water is hydrostatic below the water table all the same.
+            def geostatic(x, y):
+                g = geostatic_stress(col, wt, gw, x, np.minimum(y, 0.0))
+                g["hydrostatic_kPa"] = gw * np.maximum(wt - np.asarray(y, float), 0.0)
+                return g
+            self._geostatic = geostatic
         x, y = mesh.points.T
         g = self._geostatic(x, y)
         ground = ~np.isin(mesh.region, [mesh.region_id(r) for r in self.lift_regions])
         on_ground = np.zeros(mesh.n_nodes, bool)
         on_ground[mesh.triangles[ground].ravel()] = True
         for k in g:
-            g[k] = np.where(on_ground, g[k], 0.0)
+            if k != "hydrostatic_kPa":
+                g[k] = np.where(on_ground, g[k], 0.0)
         self.initial = g
 
     def _probes(self):

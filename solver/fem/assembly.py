@@ -297,6 +297,58 @@ class Discretisation:
         fe[..., 1] = np.einsum("qa,eq->ea", self.N2, w * by[:, None])
         return np.bincount(self.u_dofs.ravel(), weights=fe.reshape(-1), minlength=self.n_u)
 
+    def below_level_integrals(self, elements: np.ndarray, corner_elevation: np.ndarray,
+                              level: float) -> np.ndarray:
+        """int N_a dV over the part of each element that lies below ``level``, (n, 6).
+
+        ``corner_elevation`` (n, 3): the elevation of each element's corners, m (the mesh's,
+        or displaced ones); the elevation is taken linear between them, so the part below is
+        the element cut by a straight line in reference coordinates: a triangle at a corner,
+        or the element minus one. That is integrated exactly for straight-sided elements
+        (degree-4 rule on the sub-triangle, with the element's own Jacobian and radius).
+        """
+        elements = np.asarray(elements, dtype=int)
+        n = len(elements)
+        d = np.asarray(corner_elevation, float) - level               # (n, 3)
+        below = d < 0
+        nb = below.sum(axis=1)
+        out = np.zeros((n, 6))
+        whole = np.einsum("qa,eq->ea", self.N2, self.dV[elements])
+        out[nb == 3] = whole[nb == 3]
+        cut = np.flatnonzero((nb == 1) | (nb == 2))
+        if not cut.size:
+            return out
+        # The lone corner k (the one below when one is, the one above when two are) and the
+        # triangle it cuts off, in reference coordinates.
+        dc, bc = d[cut], below[cut]
+        lone = np.where((nb[cut] == 1)[:, None], bc, ~bc)
+        k = lone.argmax(axis=1)
+        i = (k + 1) % 3
+        j = (k + 2) % 3
+        corners = np.array([[0.0, 0.0], [1.0, 0.0], [0.0, 1.0]])
+        r = np.arange(cut.size)
+        dk, di, dj = dc[r, k], dc[r, i], dc[r, j]
+        Pk, Pi, Pj = corners[k], corners[i], corners[j]
+        A = Pk
+        B = Pk + (dk / (dk - di))[:, None] * (Pi - Pk)
+        C = Pk + (dk / (dk - dj))[:, None] * (Pj - Pk)
+        xi, w = element.triangle_rule(4)
+        pts = (A[:, None] + xi[None, :, :1] * (B - A)[:, None]
+               + xi[None, :, 1:] * (C - A)[:, None])                 # (nc, nq, 2)
+        area = 0.5 * np.abs((B - A)[:, 0] * (C - A)[:, 1] - (B - A)[:, 1] * (C - A)[:, 0])
+        N, dN_ref = element.p2(pts.reshape(-1, 2))
+        N = N.reshape(cut.size, len(w), 6)
+        dN_ref = dN_ref.reshape(cut.size, len(w), 6, 2)
+        x = self.mesh.points[self.mesh.triangles[elements[cut]]]      # (nc, 6, 2)
+        J = np.einsum("eai,eqaj->eqij", x, dN_ref)
+        detJ = J[..., 0, 0] * J[..., 1, 1] - J[..., 0, 1] * J[..., 1, 0]
+        wq = w[None] * 2 * area[:, None] * detJ                       # (nc, nq)
+        if self.axisymmetric:
+            wq = wq * np.einsum("eqa,ea->eq", N, x[..., 0])
+        tri = np.einsum("eqa,eq->ea", N, wq)
+        out[cut] = np.where((nb[cut] == 1)[:, None], tri, whole[cut] - tri)
+        return out
+
     def stress_to_nodal_forces(self, stress: np.ndarray, active: np.ndarray | None = None):
         """Internal force vector sum_q dV B^T sigma, (n_u,), from stress (ne, nq, 4)."""
         w = self.dV if active is None else self.dV * active[:, None]

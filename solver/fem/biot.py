@@ -80,10 +80,18 @@ class RigidPlate:
 @dataclass
 class BodyForce:
     """Self-weight of a region (a construction lift): ``unit_weight`` kN/m3 acting downward,
-    scaled in time by ``history``."""
+    scaled in time by ``history``.
+
+    With ``water_level`` (an elevation, m) the part of the region below it weighs
+    ``submerged_unit_weight`` instead: its buoyant weight gamma_sat - gamma_w, since the
+    solver's pore pressure is the excess over the hydrostatic one, whose gradient carries
+    gamma_w of the saturated weight (Archimedes; common practice for fill under water).
+    """
     region: str
     unit_weight: float
     history: History = constant
+    submerged_unit_weight: float | None = None
+    water_level: float | None = None
 
 
 @dataclass
@@ -127,9 +135,7 @@ class BiotProblem:
         # points, and the force that keeps it stress-free: sum B^T D eps_placed.
         self.placed_strain_q = np.zeros(self.disc.B.shape[:3])
         self.f_placed = np.zeros(self.disc.n_u)
-        self._body = [(bf, self.disc.body_force_vector(
-            np.zeros(ne), -bf.unit_weight * (self.mesh.region == self.mesh.region_id(bf.region))))
-            for bf in self.body_forces]
+        self._body = [(bf, self._body_force_vector(bf)) for bf in self.body_forces]
         self._plate_slots()
         self._assemble()
         self._constrain()
@@ -176,6 +182,20 @@ class BiotProblem:
                 self.plate_theta[i] = k
                 k += 1
         self.n_plate_unknowns = k
+
+    def _body_force_vector(self, bf: BodyForce) -> np.ndarray:
+        """Consistent nodal forces (n_u,) of a region's weight at its full value."""
+        d, mesh = self.disc, self.mesh
+        inside = mesh.region == mesh.region_id(bf.region)
+        f = d.body_force_vector(np.zeros(mesh.n_elements), -bf.unit_weight * inside)
+        if bf.water_level is not None and bf.submerged_unit_weight is not None:
+            e = np.flatnonzero(inside)
+            z = mesh.points[mesh.triangles[e, :3], 1]
+            lost = (bf.unit_weight - bf.submerged_unit_weight) * \
+                d.below_level_integrals(e, z, bf.water_level)            # (n, 6), upward
+            f[1::2] += np.bincount(mesh.triangles[e].ravel(), weights=lost.ravel(),
+                                   minlength=mesh.n_nodes)
+        return f
 
     def _edge(self, name: str, kind: str) -> np.ndarray:
         if name not in self.mesh.edges:

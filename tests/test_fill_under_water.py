@@ -1,0 +1,63 @@
+"""Fill placed below the water table loads the ground with its buoyant weight."""
+
+import numpy as np
+import pytest
+
+from solver.model import (Embankment, Layer, Material, Model, PointProbe, Section, Stage,
+                          TimeSteps, Water)
+from solver.runner import run
+from solver.simulation import Simulation
+
+G_W = 9.81
+CREST, HEIGHT, SLOPE = 6.0, 2.0, 2.0       # a half section: crest 3 m, toe at 7 m
+
+
+def fill_model(table_depth: float, unit_weight: float, saturated: float) -> Model:
+    clay = Material("clay", youngs_modulus=3000.0, poisson_ratio=0.3, unit_weight=17.0,
+                    saturated_unit_weight=17.0, permeability_x=1e-3)
+    fill = Material("fill", youngs_modulus=20000.0, poisson_ratio=0.3, unit_weight=unit_weight,
+                    saturated_unit_weight=saturated)
+    emb = Embankment(crest_width=CREST, height=HEIGHT, side_slope=SLOPE, lifts=[HEIGHT],
+                     material="fill")
+    return Model(title="fill under water (invented)", materials={"clay": clay, "fill": fill},
+                 layers=[Layer("clay", "clay", 10.0)],
+                 section=Section(kind="embankment", half=True, mesh_size=0.5, embankment=emb),
+                 water=Water(table_depth=table_depth, unit_weight=G_W),
+                 stages=[Stage("place", "lift", 10.0, lift=1),
+                         Stage("wait", "consolidate", 3000.0)],
+                 time_steps=TimeSteps(first_step=2.0, growth=2.0, steps_per_level=2),
+                 probes=[PointProbe("centre", 0.0, 0.0), PointProbe("toe", 7.0, 0.0)])
+
+
+def test_a_fill_wholly_under_water_settles_as_a_dry_fill_of_its_buoyant_unit_weight():
+    # Archimedes: under 3 m of standing water (table_depth = -3 m) a 2 m fill of saturated
+    # unit weight 20 kN/m3 loads the ground by (20 - 9.81) kN/m3 over its area, exactly as
+    # a fill of that unit weight placed in the dry. The two models solve the same equations
+    # (the solver's pore pressure is the excess over the hydrostatic), so they agree to
+    # rounding. Before the fix the fill under water weighed its dry 18 kN/m3: 77 % too much.
+    wet = run(fill_model(-3.0, 18.0, 20.0))
+    dry = run(fill_model(0.0, 20.0 - G_W, 20.0))
+    for probe in ("centre", "toe"):
+        a, b = wet.probe(probe)["settlement_m"], dry.probe(probe)["settlement_m"]
+        assert np.abs(a - b).max() < 1e-9 * np.abs(b).max()
+    assert dry.probe("centre")["settlement_m"][-1] > 0.01
+
+
+@pytest.mark.parametrize("table_depth", [-1.0, -0.37, 0.0, -3.0])
+def test_the_weight_of_a_fill_partly_under_water_splits_at_the_water_level(table_depth):
+    # The part above the level weighs the (moist) unit weight, the part below the buoyant
+    # one: the total vertical force is the areas of the trapezoid above and below the level
+    # times those weights (common practice), exact however the mesh cuts the level.
+    g, gs = 18.0, 20.0
+    sim = Simulation(fill_model(table_depth, g, gs))
+    sim.ramps["lift_1"].set(0.0, 0.0, 1.0)
+    f, _ = sim.problem.external_force(1.0, placed=False)
+    level = min(max(-table_depth, 0.0), HEIGHT)
+
+    def area_below(y):              # half trapezoid: width 7 - 2 y at height y
+        return (2 * (CREST / 2 + SLOPE * HEIGHT) - SLOPE * y) * y / 2
+
+    below = area_below(level)
+    above = area_below(HEIGHT) - below
+    assert f[1:sim.problem.disc.n_u:2].sum() == pytest.approx(-(g * above + (gs - G_W) * below),
+                                                              rel=1e-12)
