@@ -43,19 +43,29 @@ def _validate(args) -> int:
 
 
 def _bench(args) -> int:
-    from .bench import run_benchmark
-    r = run_benchmark(args.elements, args.steps, args.linear_solver)
-    if args.json:
-        print(json.dumps(r))
-    else:
-        for k, v in r.items():
-            if k == "backends":
-                print("backends measured on the run's consolidation matrix:")
-                for b in v:
-                    print(f"  {b['backend']:12s} factor {b['factor_s']:.3f} s   solve "
-                          f"{b['solve_s']:.4f} s   residual {b['residual']:.1e}")
-            else:
-                print(f"{k:26s} {v:.4g}" if isinstance(v, float) else f"{k:26s} {v}")
+    from . import bench
+    names = bench.parse_backends(args.backends)
+    if args.material == "cam-clay":
+        from .bench_newton import run_newton_benchmark
+        r = run_newton_benchmark(args.elements, args.steps or 10, args.linear_solver)
+        print(json.dumps(r) if args.json else "\n".join(bench.format_figures(r)))
+        return 0
+    b = bench.LinearBenchmark(args.elements, args.steps or 100, args.linear_solver)
+    b.make_mesh()
+    if not args.json:
+        print(f"{'mesh generation':28s} {b.mesh_s:.4g} s ({b.mesh.n_elements} triangles)",
+              flush=True)
+    r = b.run()
+    # The run's figures first, at once: a later comparison cannot lose them.
+    print(json.dumps(r) if args.json else "\n".join(bench.format_figures(r)), flush=True)
+    if names == []:
+        return 0
+    if not args.json:
+        print("other backends on the run's consolidating matrix (dt = 1 day), where they fit:",
+              flush=True)
+    for row in b.compare(names):
+        print(json.dumps({"comparison": row}) if args.json else bench.format_comparison(row),
+              flush=True)
     return 0
 
 
@@ -268,10 +278,17 @@ def build_parser() -> argparse.ArgumentParser:
 
     b = command("bench", _bench, "time assembly, factorization and stepping (a benchmark)")
     b.add_argument("--elements", type=int, default=20_000, help="target number of triangles")
-    b.add_argument("--steps", type=int, default=100, help="time steps")
+    b.add_argument("--steps", type=int, default=None,
+                   help="time steps (default 100; 10 with --material cam-clay)")
     b.add_argument("--linear-solver", default=None,
                    help="sparse direct solver backend (default: fastest installed)")
-    b.add_argument("--json", action="store_true", help="print one JSON object")
+    b.add_argument("--backends", default="all",
+                   help="backends to compare after the run on its matrix: 'all' (installed, "
+                        "other than the run's), 'none', or names separated by commas")
+    b.add_argument("--material", choices=["linear", "cam-clay"], default="linear",
+                   help="cam-clay: the soft clay layer in Modified Cam Clay, Newton steps")
+    b.add_argument("--json", action="store_true",
+                   help="JSON lines: the run's figures, then one line per compared backend")
     return p
 
 

@@ -38,6 +38,10 @@ class InputError(PoroplaneError):
         return text
 
 
+class TooLargeError(InputError):
+    """The problem does not fit the memory of this machine (refused before starting)."""
+
+
 class MeshError(InputError):
     """A mesh that cannot be used (inverted elements, missing groups, ...)."""
 

@@ -19,6 +19,7 @@ selecting CSR entries (see :class:`Constraints`), never by sparse products.
 
 from __future__ import annotations
 
+import time
 from dataclasses import dataclass, field
 from typing import Callable, Iterator
 
@@ -369,7 +370,16 @@ class BiotProblem:
         c = self.constraints(dt)
         if c.ordering is None:
             from ..linalg import Ordering
-            c.ordering = Ordering.from_groups(c.node_of_reduced, self.disc.node_graph)
+            # Constraint sets on the same nodes (the undrained instant and the consolidating
+            # steps differ in a few pressure dofs only) share one nested dissection.
+            nodes = np.zeros(self.mesh.n_nodes, dtype=bool)
+            nodes[c.node_of_reduced] = True
+            key = np.packbits(nodes).tobytes()
+            ranks = self.__dict__.setdefault("_node_ranks", {})
+            c.ordering = Ordering.from_groups(c.node_of_reduced, self.disc.node_graph,
+                                              node_rank=ranks.get(key))
+            ranks.clear()
+            ranks[key] = c.ordering.node_rank
         return c.ordering
 
 
@@ -546,31 +556,56 @@ class State:
 
 
 class StepSolver:
-    """Steps a BiotProblem through times, factoring once per distinct step length."""
+    """Steps a BiotProblem through times, factoring once per distinct step length.
 
-    def __init__(self, problem: BiotProblem, backend: str | None = None):
+    Factorizations are kept in a :class:`~solver.linalg.FactorCache` under a memory budget:
+    the undrained instant (a step of zero length) is solved once and released at once; those
+    of a matrix that has changed (elements placed) are released before the next is made; the
+    others are kept while they fit, least recently used released first. A problem whose one
+    factorization cannot fit in the memory available is refused here, before any step, with
+    :class:`~solver.errors.TooLargeError`.
+
+    Parameters
+    ----------
+    problem : the BiotProblem.
+    backend : linear solver (default: the fastest installed for the size).
+    memory_budget : bytes the factorizations may hold (default 90% of the memory available).
+    """
+
+    def __init__(self, problem: BiotProblem, backend: str | None = None,
+                 memory_budget: float | None = None):
         from .. import linalg
         self.problem = problem
+        n = problem.constraints(1.0).n_reduced
         self.backend = backend or linalg.default_backend(problem.disc.n_dofs)
-        self._factors: dict[float, object] = {}
+        self.cache = linalg.FactorCache(memory_budget)
+        self.memory_estimate = linalg.estimate_factor_bytes(n, self.backend)
+        linalg.check_fits(n, self.backend, needed=self.memory_estimate,
+                          budget=self.cache.budget, what="one factorization of the step matrix")
+        self._fill: int | None = None       # stored values of the last factorization made
         self.factor_seconds = 0.0
         self.n_factorizations = 0
+        self.solve_seconds: list[float] = []
 
     def factor_for(self, dt: float):
+        """The factorization of the step matrix for a step of length dt (made if needed)."""
         from .. import linalg
         # Step lengths equal to 7 digits share a factorization.
-        key = (self.problem.version, float(np.float32(dt)))
-        fac = self._factors.get(key)
+        version = self.problem.version
+        key = (version, float(np.float32(dt)))
+        fac = self.cache.get(key)
         if fac is None:
-            # Factors of a matrix that changed (elements placed) are never used again.
-            self._factors = {k: f for k, f in self._factors.items()
-                             if k[0] == self.problem.version}
             A = self.problem.matrix(dt)
+            need = linalg.estimate_factor_bytes(A.shape[0], self.backend, fill=self._fill)
+            # Factors of a matrix that changed (elements placed) are never used again.
+            self.cache.make_room(need, useless=lambda k: k[0] != version or k[1] == 0.0)
             order = self.problem.ordering(dt) if self.backend == "superlu-nd" else None
-            fac = linalg.factor(A, backend=self.backend, ordering=order)
+            fac = linalg.factor(A, backend=self.backend, ordering=order, copy=False)
+            del A
+            self._fill = fac.factor_nnz
             self.factor_seconds += fac.factor_seconds
             self.n_factorizations += 1
-            self._factors[key] = fac
+            self.cache.put(key, fac)
         return fac
 
     def step(self, state: State, t_new: float) -> State:
@@ -579,8 +614,19 @@ class StepSolver:
             raise ValueError("time must not decrease")
         pb = self.problem
         b = pb.right_hand_side(state.x, t_new, dt)
-        y = self.factor_for(dt).solve(b)
+        fac = self.factor_for(dt)
+        t0 = time.perf_counter()
+        y = fac.solve(b)
+        self.solve_seconds.append(time.perf_counter() - t0)
+        if dt == 0:
+            # The undrained instant is solved once (the next load brings its own): release
+            # it before the first consolidating step is factored.
+            self.cache.release((pb.version, 0.0))
         return State(t_new, pb.expand(y, dt), pb.disc.n_u)
+
+    def release(self) -> None:
+        """Free every factorization held (later steps factor again as needed)."""
+        self.cache.clear()
 
     def run(self, times) -> Iterator[State]:
         """Yield the state at each time. The first step starts from rest just before times[0];

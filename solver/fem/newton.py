@@ -77,6 +77,15 @@ class NewtonStepSolver:
         self.n_factorizations = 0
         self._Qe = d.coupling_blocks(problem._per_element("biot_coefficient"))
         self._SMe = d.mass_blocks(problem._per_element("storage"))
+        # CSR slots of the element displacement-displacement entries: the tangent stiffness,
+        # the only part of the Jacobian that changes between iterations, is summed into these
+        # alone; the coupling and flow part is summed once per step.
+        self._uu_slot = d.pattern.slot.reshape(-1, 15, 15)[:, :12, :12].ravel()
+        from .. import linalg
+        n = problem.constraints(1.0).n_reduced
+        self.memory_estimate = linalg.estimate_factor_bytes(n, self.backend)
+        linalg.check_fits(n, self.backend, needed=self.memory_estimate,
+                          what="one factorization of the Newton matrix")
 
     # ------------------------------------------------------------ pieces
     def _permeability(self) -> tuple[np.ndarray, np.ndarray]:
@@ -147,6 +156,7 @@ class NewtonStepSolver:
         u_n, p_n = state.u, state.p
         n_u = d.n_u
         SMe, Qe = self._SMe * on[:, None, None], self._Qe * on[:, None, None]
+        fixed_part = None                           # coupling and flow part of the Jacobian
         history = []
         for it in range(self.max_iter + 1):
             u, p = x[:n_u], x[n_u:]
@@ -191,19 +201,26 @@ class NewtonStepSolver:
             if it == self.max_iter or not np.isfinite(history[-1]):
                 raise SolverError(f"Newton did not converge in {self.max_iter} iterations "
                                   f"(relative residual {history[-1]:.2e})")
+            if fixed_part is None:
+                blocks = np.zeros((pb.mesh.n_elements, 15, 15))
+                blocks[:, :12, 12:] = -Qe
+                blocks[:, 12:, :12] = -Qe.transpose(0, 2, 1)
+                blocks[:, 12:, 12:] = -(SMe + dt * He)
+                fixed_part = d.pattern.assemble(blocks).data
+                del blocks
+            # Each CSR entry gets contributions from one block kind only, so the sum of the
+            # two parts equals assembling the whole element matrices at once.
             Ke = d.stiffness_blocks(tangent * on[:, None, None, None])
-            blocks = np.zeros((pb.mesh.n_elements, 15, 15))
-            blocks[:, :12, :12] = Ke
-            blocks[:, :12, 12:] = -Qe
-            blocks[:, 12:, :12] = -Qe.transpose(0, 2, 1)
-            blocks[:, 12:, 12:] = -(SMe + dt * He)
-            A = d.pattern.assemble(blocks)
+            data = np.bincount(self._uu_slot, weights=Ke.ravel(), minlength=fixed_part.size)
+            data += fixed_part
             order = pb.ordering(dt) if self.backend == "superlu-nd" else None
-            fac = linalg.factor(c.reduce(A.data), backend=self.backend, ordering=order,
-                                check=False, symmetric=False)
+            fac = linalg.factor(c.reduce(data), backend=self.backend, ordering=order,
+                                check=False, symmetric=False, copy=False, keep_plan=True)
             self.factor_seconds += fac.factor_seconds
             self.n_factorizations += 1
             dy = fac.solve(r)
+            fac.free()                              # before the next one is made
+            del fac
             x += c.apply(dy)
 
     # --------------------------------------------------------- checkpoint

@@ -46,7 +46,9 @@ dof index within a node, so a pressure dof follows the displacements of its own 
 
 Modules: ``ordering`` (nested dissection), ``factor`` (the ``Factor`` interface, accuracy check
 and fallback), ``superlu`` and ``pardiso`` (the backends), ``backends`` (which are installed,
-the default, ``factor``), ``measure`` (timing them), ``synthetic`` (a test matrix).
+the default, ``factor``), ``memory`` (what a factorization needs and holds, refusal when it
+cannot fit), ``cache`` (factorizations kept under a memory budget), ``measure`` (timing
+backends), ``synthetic`` (a test matrix).
 
 References
 ----------
@@ -62,19 +64,25 @@ irregular graphs. SIAM J. Sci. Comput. 20(1), 359-392 (METIS nested dissection).
 from __future__ import annotations
 
 from .backends import PARDISO_FROM, available_backends, default_backend, factor
+from .cache import FactorCache
 from .factor import BACKWARD_ERROR_TOL, Factor
 from .measure import measure_backends
+from .memory import available_bytes, check_fits, estimate_factor_bytes
 from .ordering import Ordering
 from .synthetic import SyntheticBiot, synthetic_biot_matrix
 
 __all__ = [
     "BACKWARD_ERROR_TOL",
     "Factor",
+    "FactorCache",
     "Ordering",
     "PARDISO_FROM",
     "SyntheticBiot",
     "available_backends",
+    "available_bytes",
+    "check_fits",
     "default_backend",
+    "estimate_factor_bytes",
     "factor",
     "measure_backends",
     "synthetic_biot_matrix",

@@ -39,7 +39,8 @@ def default_backend(n: int | None = None) -> str:
 
 
 def factor(A, backend: str | None = None, ordering: Ordering | None = None,
-           check: bool = True, symmetric: bool = True) -> Factor:
+           check: bool = True, symmetric: bool = True, copy: bool = True,
+           keep_plan: bool = False) -> Factor:
     """Factor the symmetric (quasi-definite) matrix ``A`` for repeated solves.
 
     Parameters
@@ -56,6 +57,11 @@ def factor(A, backend: str | None = None, ordering: Ordering | None = None,
     check : check the backward error of the first solve and fall back to a pivoting
         factorization when it is poor. Newton iterations pass False: an inexact step only
         slows their convergence, which their own residual check watches.
+    copy : keep a copy of ``A`` for the check (the caller may reuse its arrays); False when
+        the matrix was made for this factorization alone (saves one matrix of memory).
+    keep_plan : "superlu-nd": keep the permutation of this pattern on ``ordering`` for the
+        next matrix with the same pattern (Newton iterations), at the cost of one int array
+        of nnz entries.
 
     Returns
     -------
@@ -74,7 +80,9 @@ def factor(A, backend: str | None = None, ordering: Ordering | None = None,
             raise InputError("backend 'pardiso' is not available: pypardiso (Intel MKL) is not "
                              f"installed or cannot load. Available: {', '.join(names)}.",
                              field="backend",
-                             fix="pip install pypardiso (x86_64 only), or use 'superlu-nd'.")
+                             fix="install the pardiso extra, pip install 'poroplane[pardiso]' "
+                                 "(or pip install pypardiso; x86_64 only, about 1 GB of "
+                                 "Intel MKL), or use 'superlu-nd'.")
         raise InputError(f"unknown backend {backend!r}. Available: {', '.join(names)}.",
                          field="backend", fix=f"use one of {names}.")
     if not sp.issparse(A) or A.ndim != 2 or A.shape[0] != A.shape[1]:
@@ -88,11 +96,14 @@ def factor(A, backend: str | None = None, ordering: Ordering | None = None,
         raise InputError("backend 'pardiso' is set up for symmetric matrices only",
                          field="backend", fix="use 'superlu-nd' or 'superlu'.")
     if backend == "superlu-nd":
-        fac = _SuperLUNDFactor(A, ordering, symmetric)
+        fac = _SuperLUNDFactor(A, ordering, symmetric, copy=copy,
+                               keep_plan=keep_plan and ordering is not None)
     elif backend == "superlu":
-        fac = _SuperLUFactor(A)
+        fac = _SuperLUFactor(A, copy=copy)
     else:
-        fac = _PardisoFactor(A)
-    fac._checked = not check
+        fac = _PardisoFactor(A, copy=copy)
+    if not check:
+        fac._checked = True
+        fac.release_matrix()
     return fac
 

@@ -37,8 +37,9 @@ class Factor:
         and this Factor refactored with SuperLU's pivoting default instead.
     backward_error : backward error of the last checked solve (see ``BACKWARD_ERROR_TOL``),
         None before the first solve.
-    factor_nnz : nonzeros stored in the factors, a memory measure (L + U for SuperLU, the one
-        triangle for PARDISO).
+    factor_nnz : values stored in the factors, a memory measure (L + U for SuperLU, supernode
+        padding included; the one triangle for PARDISO).
+    memory_bytes : memory the factors hold (see :mod:`solver.linalg.memory`).
     check_every_solve : check the backward error of every solve rather than only the first
         (one matvec, measured 6-7% of a solve at 0.1-0.36 M dofs). Off by default: the check
         tests the factors, and the first solve already shows a spoiled factorization.
@@ -50,10 +51,12 @@ class Factor:
     backward_error: float | None
     factor_nnz: int | None
 
-    def __init__(self, A: sp.csr_matrix, backend: str):
+    def __init__(self, A: sp.csr_matrix, backend: str, copy: bool = True):
         # A copy: callers may assemble the next matrix into the same arrays (same pattern),
-        # and the check and the fallback must see the matrix that was factored.
-        self.A = A.copy()
+        # and the check and the fallback must see the matrix that was factored. Callers that
+        # hand over a matrix made for this factorization pass copy=False. The matrix is
+        # dropped once the first solve has been checked (or at once without a check).
+        self.A = A.copy() if copy else A
         self.n = A.shape[0]
         self.backend = backend
         self.factor_seconds = 0.0
@@ -82,20 +85,34 @@ class Factor:
         if self._freed:
             raise SolverError("this Factor was freed; factor the matrix again.")
         x = self._solve(b)
-        if not self._checked or self.check_every_solve:
+        if self.A is not None and (not self._checked or self.check_every_solve):
             self._checked = True
             eta = self._backward_error(b, x)
             self.backward_error = eta
             if not eta <= BACKWARD_ERROR_TOL:           # also catches NaN
                 x = self._recover(b, eta)
+            if not self.check_every_solve:
+                self.release_matrix()
         return x
+
+    def release_matrix(self) -> None:
+        """Drop the copy of the matrix kept for the accuracy check and the fallback (both done
+        by the first solve): a factorization kept for many solves then holds its factors only."""
+        self.A = None
+        self.__dict__.pop("_rowmax", None)
+        self.__dict__.pop("_equilibration", None)
+
+    @property
+    def memory_bytes(self) -> int:
+        """Bytes held by the factors (estimated from their size, see ``memory.py``)."""
+        from .memory import factor_bytes
+        return factor_bytes(self.backend if not self.fell_back else "superlu",
+                            self.factor_nnz or 0)
 
     @functools.cached_property
     def _rowmax(self) -> np.ndarray:
         """(n,) largest |entry| of each row."""
-        if self.A.nnz == 0:
-            return np.zeros(self.n)
-        return abs(self.A).max(axis=1).toarray().ravel()
+        return _row_max_abs(self.A)
 
     @functools.cached_property
     def _equilibration(self) -> tuple[np.ndarray, float]:
@@ -143,7 +160,7 @@ class Factor:
         self.free()                                     # drop the failed factors first
         self._lu = _splu_default(self.A)
         self._freed = False
-        self.factor_nnz = self._lu.L.nnz + self._lu.U.nnz
+        self.factor_nnz = self._lu.nnz
         self._solve = self._solve_superlu_default
 
     def _solve_superlu_default(self, b: np.ndarray) -> np.ndarray:
@@ -160,6 +177,16 @@ class Factor:
     def __repr__(self) -> str:
         return (f"Factor(backend={self.backend!r}, n={self.n}, factor_seconds="
                 f"{self.factor_seconds:.3f}, fell_back={self.fell_back})")
+
+
+def _row_max_abs(A: sp.csr_matrix) -> np.ndarray:
+    """(n,) largest |entry| of each row of a CSR matrix (0 for an empty row)."""
+    out = np.zeros(A.shape[0])
+    counts = np.diff(A.indptr)
+    rows = np.flatnonzero(counts)
+    if rows.size:
+        out[rows] = np.maximum.reduceat(np.abs(A.data[:A.indptr[-1]]), A.indptr[rows])
+    return out
 
 
 def _splu_default(A: sp.csr_matrix):

@@ -47,7 +47,8 @@ class Ordering:
 
     @classmethod
     def from_groups(cls, group_of_dof: np.ndarray,
-                    group_adjacency: sp.spmatrix | sp.sparray) -> "Ordering":
+                    group_adjacency: sp.spmatrix | sp.sparray,
+                    node_rank: np.ndarray | None = None) -> "Ordering":
         """Nested dissection on the node graph, expanded to dofs.
 
         Parameters
@@ -55,12 +56,16 @@ class Ordering:
         group_of_dof : (n,) int, the node (group) of each dof.
         group_adjacency : (n_nodes, n_nodes) sparse, nonzero where two nodes share an element
             (values ignored; the pattern is symmetrised, the diagonal ignored).
+        node_rank : (n_nodes,) position of each node in a nested-dissection order made before
+            (``Ordering.node_rank`` of another constraint set on the same nodes): reused
+            instead of computing a new one (the dissection is the expensive part).
 
         Returns
         -------
         Ordering whose ``perm`` lists nodes in nested-dissection order and, within a node, its
         dofs in ascending dof index. Nodes without dofs are dropped from the graph; each node is
-        weighted by its number of dofs so separators balance dofs, not nodes.
+        weighted by its number of dofs so separators balance dofs, not nodes. Its
+        ``node_rank`` (n_nodes,) gives each node's place (-1: no dofs).
 
         Notes
         -----
@@ -83,17 +88,25 @@ class Ordering:
             raise InputError(f"group_of_dof holds node ids in [{group_of_dof.min()}, "
                              f"{group_of_dof.max()}] but group_adjacency has {n_groups} nodes.",
                              field="group_of_dof")
-        counts = np.bincount(group_of_dof, minlength=n_groups)
-        active = np.flatnonzero(counts)
-        graph = _symmetric_graph(group_adjacency)
-        if active.size < n_groups:                      # nodes whose dofs were all eliminated
-            graph = graph[active][:, active]
-        node_perm = _nested_dissection(graph, counts[active])    # new -> old (active index)
-        rank = np.empty(n_groups, dtype=np.int64)
-        rank[active[node_perm]] = np.arange(active.size)
+        if node_rank is None:
+            counts = np.bincount(group_of_dof, minlength=n_groups)
+            active = np.flatnonzero(counts)
+            graph = _symmetric_graph(group_adjacency)
+            if active.size < n_groups:                  # nodes whose dofs were all eliminated
+                graph = graph[active][:, active]
+            node_perm = _nested_dissection(graph, counts[active])    # new -> old (active index)
+            rank = np.full(n_groups, -1, dtype=np.int64)
+            rank[active[node_perm]] = np.arange(active.size)
+        else:
+            rank = np.asarray(node_rank, dtype=np.int64)
+            if rank.shape != (n_groups,) or (group_of_dof.size and rank[group_of_dof].min() < 0):
+                raise InputError("node_rank must give a place to every node that has dofs.",
+                                 field="node_rank")
         # Stable sort: within a node, dofs keep ascending dof index (u before p, see Notes).
         perm = np.argsort(rank[group_of_dof], kind="stable")
-        return cls(perm, kind="groups", seconds=time.perf_counter() - t0)
+        ordering = cls(perm, kind="groups", seconds=time.perf_counter() - t0)
+        ordering.node_rank = rank
+        return ordering
 
     @classmethod
     def from_matrix(cls, A: sp.spmatrix | sp.sparray) -> "Ordering":

@@ -35,8 +35,8 @@ class _PardisoFactor(Factor):
 
     _MTYPE = -2
 
-    def __init__(self, A: sp.csr_matrix):
-        super().__init__(A, "pardiso")
+    def __init__(self, A: sp.csr_matrix, copy: bool = True, numeric: bool = True):
+        super().__init__(A, "pardiso", copy)
         entry = _pardiso_entry()
         t0 = time.perf_counter()
         U = _upper_with_diagonal(A)
@@ -69,11 +69,24 @@ class _PardisoFactor(Factor):
                                            self.n)
         dummy = np.zeros(self.n)                        # b and x are not read in 11 and 22
         self._call(11, dummy, dummy, 1)
+        # iparm(15..17): peak memory of the analysis, permanent memory, memory of the
+        # numerical factorization and solves, in KB (reported by phase 11).
+        self.memory_kb = (int(iparm[14]), int(iparm[15]), int(iparm[16]))
+        if not numeric:
+            return
         self._call(22, dummy, dummy, 1)
         self.factor_seconds = time.perf_counter() - t0
         self.factor_nnz = int(iparm[17])
         self.perturbed_pivots = int(iparm[13])
         self.inertia = (int(iparm[21]), int(iparm[22]))   # (positive, negative) eigenvalues
+
+    @classmethod
+    def analyse(cls, A: sp.csr_matrix) -> tuple[int, int, int]:
+        """Phase 11 alone (ordering, symbolic factorization): ``memory_kb`` of ``A``."""
+        f = cls(sp.csr_matrix(A, dtype=np.float64), copy=False, numeric=False)
+        kb = f.memory_kb
+        f.free()
+        return kb
 
     def _call(self, phase: int, b: np.ndarray, x: np.ndarray, nrhs: int) -> None:
         err = _pardiso_call(self._entry, self._pt, phase, self.n, self._data, self._ia, self._ja,
@@ -132,3 +145,14 @@ def _pardiso_release(entry, pt, iparm, n) -> None:
     _pardiso_call(entry, pt, -1, n, empty_f, empty_i, empty_i, empty_i, 1, iparm,
                   empty_f, empty_f)
 
+
+def symbolic_bytes(A: sp.spmatrix) -> int:
+    """Peak bytes PARDISO reports for factoring ``A`` after its symbolic phase alone (phase 11:
+    ordering and symbolic factorization, no values factored), the exact need of that backend.
+
+    PARDISO's own count (iparm(15) peak of the analysis, iparm(16) + iparm(17) permanent and
+    numerical memory, in KB; Intel MKL reference, from memory) plus its copy of the triangle.
+    """
+    kb = _PardisoFactor.analyse(A)
+    U_nnz = (sp.triu(A).nnz + A.shape[0]) if A.nnz else A.shape[0]
+    return int(max(kb[0], kb[1] + kb[2]) * 1024 + 12 * U_nnz)
