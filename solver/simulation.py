@@ -239,13 +239,21 @@ class Simulation:
             x0, x1 = ft.center - ft.width / 2, ft.center + ft.width / 2
             cut = not axi and x0 < x_min - 1e-9 * ft.width
             share = 1.0 if axi else (x1 - max(x0, x_min)) / ft.width
+            # An eccentric load (full plane strain sections only, checked with the model):
+            # the rigid plate carries its moment about the centre, -P e (counterclockwise
+            # positive); a flexible base the linear pressure with the same resultant and
+            # moment, q (1 + 12 e (x - x_c) / B^2) (common practice).
+            e = getattr(ft, "eccentricity", 0.0) or 0.0
             if ft.rigid:
                 force = ft.force if ft.force is not None else ft.load * area
                 self.plates.append(RigidPlate(edge, force=force * share, history=ramp,
-                                              rotation=not (axi or cut), center=ft.center))
+                                              rotation=not (axi or cut), center=ft.center,
+                                              moment=-force * e))
             else:
                 pressure = ft.load if ft.load is not None else ft.force / area
-                self.tractions.append(Traction(edge, vertical=pressure, history=ramp))
+                self.tractions.append(Traction(edge, vertical=pressure, history=ramp,
+                                               vertical_gradient=12 * pressure * e / ft.width ** 2,
+                                               x_ref=ft.center))
         # Fill below the water table weighs its buoyant weight (BodyForce). The level is the
         # one at the start (submergence as the ground settles is not followed).
         gw, level = m.water.unit_weight, -m.water.table_depth

@@ -50,11 +50,15 @@ class Fixity:
 @dataclass
 class Traction:
     """Surface load on a named edge, kPa: ``normal`` pressure pushing into the ground (positive)
-    and/or a ``vertical`` load (positive downward), scaled in time by ``history``."""
+    and/or a ``vertical`` load (positive downward), scaled in time by ``history``. The
+    vertical load may vary linearly along x: ``vertical + vertical_gradient (x - x_ref)``
+    (kPa/m, e.g. the pressure under an eccentric load)."""
     edge: str
     normal: float = 0.0
     vertical: float = 0.0
     history: History = constant
+    vertical_gradient: float = 0.0
+    x_ref: float = 0.0
 
 
 @dataclass
@@ -304,7 +308,7 @@ class BiotProblem:
 
             def traction(x, nrm, tr=tr, s=s):
                 t_ = -s * tr.normal * nrm
-                t_[..., 1] -= s * tr.vertical
+                t_[..., 1] -= s * (tr.vertical + tr.vertical_gradient * (x[..., 0] - tr.x_ref))
                 return t_
             f[:d.n_u] += d.edge_traction_vector(seg, traction)
         per = 1.0 / (2 * np.pi) if d.axisymmetric else 1.0

@@ -313,6 +313,27 @@ def _check_footings(model: Model) -> None:
                   "give load = \"150 kPa\" (pressure on the base) or force = "
                   + ("\"500 kN\"" if force_kind == "force" else "\"300 kN/m\"")
                   + " (total), not both.")
+        e = f.eccentricity
+        if e != 0.0:
+            if model.analysis == "axisymmetric" or sec.half:
+                _fail(model, f"footing {f.name!r} has an eccentric load ({e:g} m), which "
+                             "breaks the symmetry of "
+                             + ("an axisymmetric" if model.analysis == "axisymmetric"
+                                else "a half") + " model", f"{p}.eccentricity",
+                      "model the full plane strain section (half = false), or set "
+                      "eccentricity = 0.")
+            if f.rigid and abs(e) >= f.width / 2:
+                _fail(model, f"the load on footing {f.name!r} acts {e:g} m from the centre, "
+                             f"outside its base (half width {f.width / 2:g} m)",
+                      f"{p}.eccentricity", "give an eccentricity within the base, "
+                                           "|eccentricity| < width / 2.")
+            if not f.rigid and abs(e) > f.width / 6 * (1 + 1e-12):
+                _fail(model, f"flexible footing {f.name!r}: an eccentricity of {e:g} m lies "
+                             f"outside the middle third of the base (|e| <= {f.width / 6:g} "
+                             "m), where the linearly varying pressure would pull on the "
+                             "ground", f"{p}.eccentricity",
+                      "make the footing rigid (rigid = true), or keep |eccentricity| <= "
+                      "width / 6.")
         if model.layers and f.embedment >= total_depth:
             _fail(model, f"the footing base ({f.embedment:g} m deep) is at or below the base "
                          f"of the layers ({total_depth:g} m)", f"{p}.embedment",
@@ -515,6 +536,12 @@ def model_warnings(model: Model) -> list[str]:
     for n in [lo.name for lo in model.loads] + [f.name for f in sec.footings]:
         if n not in used:
             out.append(f"load {n!r} is never applied by any stage (kind \"load\").")
+    for f in sec.footings:
+        if f.rigid and abs(f.eccentricity) > f.width / 6 * (1 + 1e-12):
+            out.append(f"the load on footing {f.name!r} acts outside the middle third of its "
+                       f"base (eccentricity {f.eccentricity:g} m > {f.width / 6:g} m): the "
+                       "base would lift off the ground at its heel, which the elastic model "
+                       "does not allow (it takes tension there) (common practice).")
     ext = domain_extent(model)
     if ext is not None and model.water.table_depth > ext[2]:
         out.append(f"the water table ({model.water.table_depth:g} m deep) is below the base of "

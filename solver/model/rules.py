@@ -147,6 +147,7 @@ _FOOTING_RULES: dict[str, _Rule] = {
                 fix="give the vertical force on the footing, positive downward"),
     "embedment": _r("length", "embedment = 1.0", **_NONNEG),
     "rigid": _r("bool", "rigid = true"),
+    "eccentricity": _r("length", "eccentricity = 0.25"),
 }
 
 _LOAD_RULES: dict[str, _Rule] = {

@@ -115,8 +115,11 @@ class Footing:
 
     center : x of the centre, m; width : m (the diameter in axisymmetry); embedment : depth of
     the base below the ground, m; load : vertical pressure on the base, kPa (``force`` in kN/m,
-    or kN in axisymmetry, instead); rigid : the base moves as one (a rigid plate) or carries a
-    uniform pressure (flexible).
+    or kN in axisymmetry, instead); rigid : the base stays straight (a rigid plate: it settles
+    and tilts) or carries the pressure as given (flexible); eccentricity : m, where the
+    resultant acts, from the centre (positive towards +x; full plane strain sections only):
+    a rigid base carries its moment, a flexible one a linearly varying pressure with the same
+    resultant.
     """
     name: str
     center: float
@@ -125,6 +128,7 @@ class Footing:
     force: float | None = None
     embedment: float = 0.0
     rigid: bool = True
+    eccentricity: float = 0.0
 
 
 @dataclass
