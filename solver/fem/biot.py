@@ -32,6 +32,7 @@ from ..mesh import Mesh
 from .assembly import PLANE_STRAIN, Discretisation
 
 History = Callable[[float], float]
+_FLOW_PROPERTIES = ("biot_coefficient", "storage", "permeability_x", "permeability_y")
 
 
 def constant(t: float) -> float:
@@ -210,8 +211,18 @@ class BiotProblem:
 
     # --------------------------------------------------------- assembly
     def _per_element(self, attr: str) -> np.ndarray:
+        """A material property per element (ne,). The flow properties (Biot coefficient,
+        storage, permeabilities) are zero in free-draining regions: their pore water is at
+        the hydrostatic pressure throughout and takes no part in the flow problem, so where
+        such a region meets the ground only the ground's elements make the pressure
+        equations (what matters at the undrained instant, when those nodes are free)."""
         vals = np.array([getattr(self.materials[n], attr) for n in self.mesh.region_names])
-        return vals[self.mesh.region]
+        out = vals[self.mesh.region]
+        if attr in _FLOW_PROPERTIES and self.drained_regions:
+            out = np.where(np.isin(self.mesh.region, [self.mesh.region_id(r)
+                                                      for r in self.drained_regions]),
+                           0.0, out)
+        return out
 
     def _assemble(self):
         d = self.disc
@@ -338,7 +349,8 @@ class BiotProblem:
     def total_stress_at_nodes(self, state: "State") -> np.ndarray:
         """Change of total stress (n_nodes, 4), kPa, tension positive: sigma' - alpha p m."""
         sig = self.effective_stress_at_nodes(state)
-        alpha = self._per_element("biot_coefficient")
+        alpha = np.array([self.materials[n].biot_coefficient
+                          for n in self.mesh.region_names])[self.mesh.region]
         a_node = self.disc.nodal_average(np.repeat(alpha[:, None, None], 6, axis=1))[:, 0]
         p = self.disc.pressure_at_nodes(state.p)
         sig[:, :3] -= (a_node * p)[:, None]
@@ -467,14 +479,22 @@ class Constraints:
                     fixed[2 * nodes + comp] = True
                     x_fixed[2 * nodes + comp] = val
         # Nodes of no active element are held where they are; free-draining regions and
-        # inactive nodes carry no excess pore pressure.
-        idle = np.ones(pb.mesh.n_nodes, dtype=bool)
-        idle[pb.mesh.triangles[pb.active].ravel()] = False
+        # inactive nodes carry no excess pore pressure. Where a free-draining region meets
+        # the rest, its boundary drains the ground like a drained edge: only over a step of
+        # positive length (see BiotProblem.constraints), so at the undrained instant those
+        # nodes keep their pressure unknowns and the no-volume-change condition.
+        mesh = pb.mesh
+        idle = np.ones(mesh.n_nodes, dtype=bool)
+        idle[mesh.triangles[pb.active].ravel()] = False
         fixed[2 * np.flatnonzero(idle)] = True
         fixed[2 * np.flatnonzero(idle) + 1] = True
         no_p = idle.copy()
-        for r in pb.drained_regions:
-            no_p[pb.mesh.triangles[pb.mesh.region == pb.mesh.region_id(r)].ravel()] = True
+        in_fill = np.isin(mesh.region, [mesh.region_id(r) for r in pb.drained_regions])
+        no_p[mesh.triangles[in_fill].ravel()] = True
+        if mode == "undrained":
+            ground = np.zeros(mesh.n_nodes, dtype=bool)
+            ground[mesh.triangles[pb.active & ~in_fill].ravel()] = True
+            no_p &= ~ground
         pdofs = d.n_u + pb.mesh.pressure_index[np.flatnonzero(no_p)]
         fixed[pdofs[pdofs >= d.n_u]] = True
         if mode == "drained":
