@@ -18,15 +18,16 @@ from .checks import check_mesh_names, check_model, model_warnings
 from .domain import (base_elevation, domain_extent, domain_warnings, embankment_profile,
                      ground_surface, loaded_extent, loaded_spans)
 from .read import load_model, model_from_dict, model_from_toml
-from .schema import (ANALYSES, LINE_KINDS, MATERIAL_MODELS, MAX_LIFTS, SECTION_KINDS,
-                     STAGE_KINDS, Berm, Drainage, Embankment, Footing, Layer, LineProbe,
-                     Material, Model, OedometerParameters, Output, PointProbe, Section, Stage,
-                     SurfaceLoad, TimeSteps, Water)
+from .schema import (ANALYSES, LINE_KINDS, MATERIAL_MODELS, MAX_ELEMENTS, MAX_LIFTS,
+                     SECTION_KINDS, STAGE_KINDS, Berm, Drainage, Embankment, Footing, Grading,
+                     Layer, LineProbe, Material, Model, OedometerParameters, Output, PointProbe,
+                     Section, Stage, SurfaceLoad, TimeSteps, Water)
 from .write import dump_toml, model_to_dict, toml_dumps
 
 __all__ = [
-    "ANALYSES", "LINE_KINDS", "MATERIAL_MODELS", "MAX_LIFTS", "SECTION_KINDS", "STAGE_KINDS",
-    "Berm", "Drainage", "Embankment", "Footing", "Layer", "LineProbe", "Material", "Model",
+    "ANALYSES", "LINE_KINDS", "MATERIAL_MODELS", "MAX_ELEMENTS", "MAX_LIFTS", "SECTION_KINDS",
+    "STAGE_KINDS", "Berm", "Drainage", "Embankment", "Footing", "Grading", "Layer", "LineProbe",
+    "Material", "Model",
     "OedometerParameters", "Output", "PointProbe", "Section", "Stage", "SurfaceLoad",
     "TimeSteps", "Water",
     "base_elevation", "check_mesh_names", "check_model", "domain_extent", "domain_warnings",

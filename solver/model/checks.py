@@ -16,9 +16,10 @@ from .fields import _join, _key, _Reader, _suggest
 from .rules import (_BERM_RULES, _DRAINAGE_RULES, _EMBANKMENT_RULES, _FOOTING_RULES,
                     _LAYER_RULES, _LINE_RULES, _LOAD_RULES, _MATERIAL_RULES, _MODEL_RULES,
                     _OEDOMETER_RULES, _OUTPUT_RULES, _POSITIVE_DURATION, _PROBE_RULES,
-                    _SECTION_RULES, _STAGE_RULES, _TIME_STEP_RULES, _WATER_RULES, _Rule)
+                    _SECTION_RULES, _STAGE_RULES, _TIME_STEP_RULES, _WATER_RULES, _Rule,
+                    _GRADING_RULES)
 from .plausible import plausibility_warnings
-from .schema import _REL_TOL, Embankment, Layer, Material, Model
+from .schema import _REL_TOL, Embankment, Grading, Layer, Material, Model
 
 def _fail(model: Model, message: str, path: str | None, fix: str) -> None:
     raise InputError(message, field=path, source=model.source, fix=fix)
@@ -210,6 +211,7 @@ def _check_section(model: Model) -> None:
     sec = model.section
     _check_fields(model, sec, "section", _SECTION_RULES)
     kind = sec.kind
+    _check_mesh_sizes(model)
     if kind == "embankment":
         if sec.embankment is None:
             _fail(model, "section kind 'embankment' needs an embankment",
@@ -262,6 +264,30 @@ def _check_section(model: Model) -> None:
                   "section.regions", "regions name the materials of a user mesh: set "
                                      "section.kind = \"mesh\" or remove them; layers carry "
                                      "the materials of a parametric section.")
+
+
+def _check_mesh_sizes(model: Model) -> None:
+    """section.grading, section.region_mesh_size (a .geo user mesh only)."""
+    sec = model.section
+    if not isinstance(sec.grading, Grading):
+        _fail(model, f"expected a grading table, got {describe_value(sec.grading)}",
+              "section.grading", "write [section.grading] with enabled = true (in Python: a "
+                                 "solver.model.Grading).")
+    _check_fields(model, sec.grading, "section.grading", _GRADING_RULES)
+    if not sec.region_mesh_size:
+        return
+    path = "section.region_mesh_size"
+    if sec.kind != "mesh" or not str(sec.mesh_file or "").lower().endswith(".geo"):
+        _fail(model, "region_mesh_size sets element sizes of the regions of a .geo file",
+              path, "use it with section.kind = \"mesh\" and a .geo mesh_file (a .msh is "
+                    "meshed already); a layer of a parametric section takes its own "
+                    "mesh_size in its [[layers]] table.")
+    rule = _Rule("length", "region_name = 0.5", low=0.0)
+    for name, size in sec.region_mesh_size.items():
+        _check_value(model, size, _join(path, name), rule)
+        if sec.regions:
+            _name_check(model, name, list(sec.regions), _join(path, name), "region",
+                        "name a region of the mesh listed in [section.regions]")
 
 
 def _check_embankment(model: Model, emb: Embankment) -> None:

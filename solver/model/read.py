@@ -12,8 +12,10 @@ from .fields import _join, _Reader
 from .rules import (_BERM_RULES, _DRAINAGE_RULES, _EMBANKMENT_RULES, _FOOTING_RULES,
                     _LAYER_RULES, _LINE_RULES, _LOAD_RULES, _MATERIAL_RULES, _MODEL_RULES,
                     _MODEL_TABLES, _OEDOMETER_RULES, _OUTPUT_RULES, _PROBE_RULES,
-                    _SECTION_RULES, _STAGE_RULES, _TIME_STEP_RULES, _WATER_RULES, _Rule)
-from .schema import (MAX_LIFTS, Berm, Drainage, Embankment, Footing, Layer, LineProbe,
+                    _SECTION_RULES, _STAGE_RULES, _TIME_STEP_RULES, _WATER_RULES, _Rule,
+                    _GRADING_RULES)
+from .schema import (MAX_LIFTS, Berm, Drainage, Embankment, Footing, Grading, Layer,
+                     LineProbe,
                      Material, Model, OedometerParameters, Output, PointProbe, Section, Stage,
                      SurfaceLoad, TimeSteps, Water)
 
@@ -98,7 +100,8 @@ def _read_embankment(r: _Reader, value: Any) -> Embankment:
 def _read_section(r: _Reader, value: Any, analysis: str) -> Section:
     path = "section"
     d = r.table(value, path, 'kind = "embankment"')
-    vals = r.read(d, path, _SECTION_RULES, nested=("embankment", "footings", "regions"))
+    vals = r.read(d, path, _SECTION_RULES,
+                  nested=("embankment", "footings", "regions", "grading", "region_mesh_size"))
     if "embankment" in d:
         vals["embankment"] = _read_embankment(r, d["embankment"])
     if "footings" in d:
@@ -112,6 +115,15 @@ def _read_section(r: _Reader, value: Any, analysis: str) -> Section:
         text = _Rule("text", 'region_name = "material_name"')
         vals["regions"] = {name: r.value(mat, _join("section.regions", name), text)
                            for name, mat in regions.items()}
+    if "grading" in d:
+        g = r.table(d["grading"], "section.grading", "enabled = true")
+        vals["grading"] = Grading(**r.read(g, "section.grading", _GRADING_RULES))
+    if "region_mesh_size" in d:
+        sizes = r.table(d["region_mesh_size"], "section.region_mesh_size", "soft_clay = 0.5")
+        length = _Rule("length", "region_name = 0.5", low=0.0)
+        vals["region_mesh_size"] = {
+            name: r.value(v, _join("section.region_mesh_size", name), length)
+            for name, v in sizes.items()}
     if "kind" not in vals:      # inferred from what is given
         vals["kind"] = ("embankment" if "embankment" in d else "footings" if "footings" in d
                         else "mesh" if "mesh_file" in d else "ground")

@@ -118,6 +118,9 @@ _LAYER_RULES: dict[str, _Rule] = {
     "material": _r("text", 'material = "soft_clay"'),
     "thickness": _r("length", "thickness = 4.0", **_POS),
     "thickness_right": _r("length", "thickness_right = 5.0", **_POS),
+    "mesh_size": _r("length", "mesh_size = 0.5", **_POS,
+                    fix="give the layer's element size in m, e.g. mesh_size = 0.5, or leave "
+                        "it out to use the section's sizes"),
 }
 
 _BERM_RULES: dict[str, _Rule] = {
@@ -166,6 +169,24 @@ _SECTION_RULES: dict[str, _Rule] = {
     "half": _r("bool", "half = true"),
     "mesh_size": _r("length", "mesh_size = 1.0", **_POS),
     "mesh_file": _r("text", 'mesh_file = "site.msh"'),
+    "max_elements": _r("int", "max_elements = 3000000", low=1.0, low_open=False,
+                       fix="give the most triangles the mesh may have, e.g. "
+                           "max_elements = 3000000, or leave it out (3 million)"),
+}
+
+_GRADING_RULES: dict[str, _Rule] = {
+    "enabled": _r("bool", "enabled = true"),
+    "boundary_size": _r("length", "boundary_size = 0.1", **_POS,
+                        fix="give the element size at draining boundaries in m, e.g. "
+                            "boundary_size = 0.1, or leave it out to take it from c_v and "
+                            "time_steps.first_step"),
+    "min_size": _r("length", "min_size = 0.02", **_POS,
+                   fix="give the finest element size the grading may use in m, e.g. "
+                       "min_size = 0.02"),
+    "element_budget": _r("int", "element_budget = 10000", low=1.0, low_open=False,
+                         fix="give the most triangles the graded mesh may have, e.g. "
+                             "element_budget = 10000, or leave it out (three times the mesh "
+                             "without grading, at least 2500)"),
 }
 
 _WATER_RULES: dict[str, _Rule] = {

@@ -83,6 +83,7 @@ class Layer:
     material: str
     thickness: float
     thickness_right: float | None = None
+    mesh_size: float | None = None   # m, the layer's own element size (None: the section's)
 
 
 @dataclass
@@ -141,6 +142,27 @@ class SurfaceLoad:
 
 
 @dataclass
+class Grading:
+    """Mesh grading toward draining boundaries and permeability-contrast interfaces
+    (docs/model.md, "Mesh grading").
+
+    enabled : grade (true) or not; boundary_size : element size at those boundaries, m (None:
+    sqrt(c_v x time_steps.first_step) of the slower side); min_size : the finest boundary size,
+    m; element_budget : the most triangles the graded mesh may have (None: three times the
+    mesh without grading, at least 2500); the boundary sizes grow until it fits.
+    """
+    enabled: bool = True
+    boundary_size: float | None = None
+    min_size: float = 0.02
+    element_budget: int | None = None
+
+
+# The most triangles a section may have before it is refused unmeshed (section.max_elements;
+# a few million take minutes to mesh and several GB to solve on a workstation).
+MAX_ELEMENTS = 3_000_000
+
+
+@dataclass
 class Section:
     """What is meshed. kind: "embankment", "footings", "ground" (layers only, surface loads)
     or "mesh" (a user .msh/.geo file whose named groups carry materials and boundaries).
@@ -149,6 +171,10 @@ class Section:
     half : model only x >= 0 with a symmetry line at x = 0 (embankment, one centred footing);
     mesh_size : element size near the load, m (None: from the loaded width);
     mesh_file : for kind "mesh"; regions : for kind "mesh", region name -> material name.
+    grading : mesh grading toward draining boundaries (:class:`Grading`).
+    max_elements : the most triangles the mesh may have (None: :data:`MAX_ELEMENTS`); a larger
+    estimate is refused before meshing.
+    region_mesh_size : for kind "mesh" from a .geo file, region name -> element size, m.
     """
     kind: Literal["embankment", "footings", "ground", "mesh"] = "ground"
     width: float | None = None
@@ -159,6 +185,9 @@ class Section:
     footings: list[Footing] = field(default_factory=list)
     mesh_file: str | None = None
     regions: dict[str, str] = field(default_factory=dict)
+    grading: Grading = field(default_factory=Grading)
+    max_elements: int | None = None
+    region_mesh_size: dict[str, float] = field(default_factory=dict)
 
 
 # ----------------------------------------------------------------------------- water, bounds

@@ -9,8 +9,9 @@ from .fields import _key
 from .rules import (_BERM_RULES, _DRAINAGE_RULES, _EMBANKMENT_RULES, _FOOTING_RULES,
                     _LAYER_RULES, _LINE_RULES, _LOAD_RULES, _MATERIAL_RULES, _MODEL_RULES,
                     _OEDOMETER_RULES, _OUTPUT_RULES, _PROBE_RULES, _SECTION_RULES,
-                    _STAGE_RULES, _TIME_STEP_RULES, _WATER_RULES, _Rule)
-from .schema import Model
+                    _STAGE_RULES, _TIME_STEP_RULES, _WATER_RULES, _Rule,
+                    _GRADING_RULES)
+from .schema import Grading, Model
 
 def _plain(obj: Any, rules: dict[str, _Rule]) -> dict[str, Any]:
     """The fields of ``obj`` under their TOML keys; None and empty lists left out."""
@@ -50,6 +51,10 @@ def model_to_dict(model: Model) -> dict[str, Any]:
         sd["footings"] = [_plain(f, _FOOTING_RULES) for f in sec.footings]
     if sec.regions:
         sd["regions"] = dict(sec.regions)
+    if sec.grading != Grading():
+        sd["grading"] = _plain(sec.grading, _GRADING_RULES)
+    if sec.region_mesh_size:
+        sd["region_mesh_size"] = dict(sec.region_mesh_size)
     d["section"] = sd
     d["water"] = _plain(model.water, _WATER_RULES)
     d["drainage"] = _plain(model.drainage, _DRAINAGE_RULES)
