@@ -90,9 +90,12 @@ def assert_same_table(a: Path, b: Path, columns) -> None:
 # --------------------------------------------------------------------------- fixtures
 @pytest.fixture(scope="module")
 def embankment(tmp_path_factory) -> Path:
-    """The demo embankment on a coarse mesh, as a model file in a temporary folder."""
+    """The demo embankment on a coarse mesh, as a model file in a temporary folder (coarse on
+    purpose, no grading toward the draining boundaries: these tests check files and
+    messages)."""
     text = (EXAMPLES / "embankment.toml").read_text()
-    text = replace_once(text, "mesh_size = 1.0", "mesh_size = 3.0")
+    text = replace_once(text, "mesh_size = 1.0",
+                        "mesh_size = 3.0\ngrading = { enabled = false }")
     path = tmp_path_factory.mktemp("model") / "embankment.toml"
     path.write_text(text)
     return path
@@ -218,7 +221,8 @@ def test_ctrl_c_stops_cleanly_with_status_130_and_resumes(embankment, reference,
 def test_mesh_study_prints_a_row_per_probe_and_a_verdict(tmp_path):
     text = (EXAMPLES / "tank_footing.toml").read_text()
     model = tmp_path / "tank.toml"
-    model.write_text(replace_once(text, "mesh_size = 0.6", "mesh_size = 1.5"))
+    model.write_text(replace_once(text, "mesh_size = 0.6",            # coarse on purpose
+                                  "mesh_size = 1.5\ngrading = { enabled = false }"))
     r = cli("run", model, "-o", tmp_path / "out", "--quiet", "--mesh-study", "--no-plots")
     assert r.returncode == 0, r.stderr
     lines = r.stdout.splitlines()

@@ -25,6 +25,7 @@ def small_embankment_run(out: Path) -> Path:
     """The embankment example, coarser and shorter: three lifts, two years of waiting."""
     m = load_model(ROOT / "examples" / "embankment.toml")
     m.section.mesh_size = 3.0
+    m.section.grading.enabled = False      # coarse on purpose: pictures, not accuracy
     m.section.width = 40.0
     for st in m.stages:
         if st.until_degree is not None:

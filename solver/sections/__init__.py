@@ -53,8 +53,11 @@ from __future__ import annotations
 
 from ..errors import InputError
 from ..mesh import Mesh
+from ..model import MAX_ELEMENTS as DEFAULT_MAX_ELEMENTS
 from .embankment import clip_band, embankment_mesh, embankment_outline, lift_levels
+from .estimate import check_element_count, estimate_element_count, section_plan
 from .footings import footings_mesh
+from .grading import CONTRAST, layer_cv
 from .ground import ground_mesh
 from .plan import default_mesh_size, resolve_extent
 from .sizes import EDGE_FACTOR, FAR_FACTOR, GROWTH, SHAPE_GROWTH
@@ -62,25 +65,32 @@ from .user_mesh import file_mesh
 
 __all__ = ["build_mesh", "embankment_mesh", "footings_mesh", "ground_mesh", "file_mesh",
            "resolve_extent", "default_mesh_size", "embankment_outline", "lift_levels",
-           "clip_band", "GROWTH", "SHAPE_GROWTH", "FAR_FACTOR", "EDGE_FACTOR"]
+           "clip_band", "estimate_element_count", "check_element_count", "section_plan",
+           "layer_cv", "DEFAULT_MAX_ELEMENTS", "CONTRAST", "GROWTH", "SHAPE_GROWTH",
+           "FAR_FACTOR", "EDGE_FACTOR"]
 
 
-def build_mesh(model) -> Mesh:
+def build_mesh(model, max_elements: int | None = None) -> Mesh:
     """Mesh the model's section, choosing the builder by ``model.section.kind``.
 
     Parameters
     ----------
     model : :class:`solver.model.Model`.
+    max_elements : the most triangles allowed (None: ``section.max_elements``, else
+        :data:`DEFAULT_MAX_ELEMENTS`); a parametric section estimated above it is refused
+        before meshing (:func:`check_element_count`), and the grading never takes it there.
 
     Returns
     -------
     Mesh with the regions and edges named as in this module's docstring.
     """
     kind = model.section.kind
-    builders = {"embankment": embankment_mesh, "footings": footings_mesh,
-                "ground": ground_mesh, "mesh": file_mesh}
-    if kind not in builders:
+    kinds = ("embankment", "footings", "ground", "mesh")
+    if kind not in kinds:
         raise InputError(f"unknown section kind {kind!r}", field="section.kind",
                          source=model.source,
-                         fix=f"use one of {sorted(builders)}.")
-    return builders[kind](model)
+                         fix=f"use one of {sorted(kinds)}.")
+    if kind == "mesh":
+        return file_mesh(model)
+    plan = section_plan(model, max_elements)
+    return plan.mesh(f"{kind} section '{model.title}'")

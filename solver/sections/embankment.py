@@ -12,7 +12,12 @@ from .sizes import EDGE_FACTOR
 
 
 def embankment_mesh(model) -> Mesh:
-    """Layered ground under a trapezoidal embankment (berms optional) built in lifts.
+    """Layered ground under a trapezoidal embankment (berms optional) built in lifts."""
+    return embankment_plan(model).mesh(f"embankment section '{model.title}'")
+
+
+def embankment_plan(model) -> Plan:
+    """The plan of :func:`embankment_mesh` (all but gmsh).
 
     The embankment is symmetric about x = 0 with toes at +-(crest/2 + side_slope * height);
     each berm adds a bench of its width at its height, so the outer toe moves out by the sum
@@ -29,7 +34,7 @@ def embankment_mesh(model) -> Mesh:
     outline = embankment_outline(emb, half=plan.symmetric, source=model.source)
     levels = lift_levels(emb, source=model.source)
     toe = max(x for x, _ in outline)
-    plan.checkinside(-toe if not plan.symmetric else 0.0, toe, "section.embankment")
+    plan.check_inside(-toe if not plan.symmetric else 0.0, toe, "section.embankment")
     for i in range(len(levels) - 1):
         poly = clip_band(outline, levels[i], levels[i + 1])
         plan.lifts.append(poly)
@@ -50,15 +55,17 @@ def embankment_mesh(model) -> Mesh:
     # Size: the loaded width is the base width, toe to toe; lifts at most half their
     # thickness; load edges (toes, bench corners, crest edges) finer.
     h0 = plan.near(2 * toe)
+    src = plan.near_source = plan.near_field("section.embankment")
     plan.footprints.append((-toe if not plan.symmetric else 0.0, toe, h0, 0.0))
     for i, poly in enumerate(plan.lifts):
         t = levels[i + 1] - levels[i]
-        plan.size.add_polygon(poly, min(h0, t / 2))
+        plan.size.add_polygon(poly, min(h0, t / 2),
+                              source=src if h0 <= t / 2 else "section.embankment.lifts")
     for x, y in outline:
         if not (plan.symmetric and abs(x) <= plan.tol):
-            plan.size.add_point(x, y, EDGE_FACTOR * h0)
-    plan.size.add_segment(plan.footprints[0][0], 0.0, toe, 0.0, h0)
-    return plan.mesh(f"embankment section '{model.title}'")
+            plan.size.add_point(x, y, EDGE_FACTOR * h0, source=src)
+    plan.size.add_segment(plan.footprints[0][0], 0.0, toe, 0.0, h0, source=src)
+    return plan
 
 
 def embankment_outline(emb, half: bool = False, source: str | None = None) -> list[Point]:

@@ -11,6 +11,14 @@ from .sizes import EDGE_FACTOR
 def footings_mesh(model) -> Mesh:
     """Layered ground under strip footings (plane strain) or one circular footing (axisymmetry).
 
+    See :func:`footings_plan`.
+    """
+    return footings_plan(model).mesh(f"footings section '{model.title}'")
+
+
+def footings_plan(model) -> Plan:
+    """The plan of :func:`footings_mesh` (all but gmsh).
+
     A footing with embedment D > 0 sits at y = -D at the bottom of a rectangular notch of its
     own width (the soil above its base is removed); D = 0 is a loaded segment of the surface.
     """
@@ -43,7 +51,7 @@ def footings_mesh(model) -> Mesh:
                                  "centre", field=where, source=model.source,
                                  fix="centre it at x = 0, move it to x >= 0, or model the "
                                      "full section (half = false).")
-        plan.checkinside(x0, x1, where)
+        plan.check_inside(x0, x1, where)
         for (a, b, other) in spans:
             if x0 < b - plan.tol and x1 > a + plan.tol:
                 raise InputError(f"footings {other!r} and {f.name!r} overlap", field=where,
@@ -61,17 +69,18 @@ def footings_mesh(model) -> Mesh:
             plan.surface_footings.append((f.name, x0, x1))
         d = f.embedment
         h0 = plan.near(f.width)
+        src = plan.near_source = plan.near_field(f"{where}.width")
         plan.footprints.append((x0, x1, h0, -d))
-        plan.size.add_segment(x0, -d, x1, -d, h0)
+        plan.size.add_segment(x0, -d, x1, -d, h0, source=src)
         for x in (x0, x1):
             if not (plan.symmetric and abs(x) <= plan.tol):
-                plan.size.add_point(x, -d, EDGE_FACTOR * h0)
+                plan.size.add_point(x, -d, EDGE_FACTOR * h0, source=src)
                 if d > 0:
-                    plan.size.add_point(x, 0.0, EDGE_FACTOR * h0)
+                    plan.size.add_point(x, 0.0, EDGE_FACTOR * h0, source=src)
     for ld in plan.loads:
         for (a, b, name) in spans:
             if ld.x0 < b - plan.tol and ld.x1 > a + plan.tol:
                 raise InputError(f"surface load {ld.name!r} overlaps footing {name!r}",
                                  field=ld.where, source=model.source,
                                  fix="load the footing itself (its load or force).")
-    return plan.mesh(f"footings section '{model.title}'")
+    return plan

@@ -8,11 +8,13 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
+import numpy as np
+
 from ..errors import InputError
 from ..mesh import Mesh
-from ..model import base_elevation, domain_extent, loaded_spans
+from ..model import MAX_ELEMENTS, base_elevation, domain_extent, loaded_spans
 from . import gmsh_section
-from .polygons import Point, dedupe
+from .polygons import Point, dedupe, inside
 from .sizes import EDGE_FACTOR, FAR_FACTOR, GROWTH, SHAPE_GROWTH, SizeField
 
 
@@ -61,6 +63,7 @@ class LoadPlace:
     y: float = 0.0      # elevation of the loaded surface (the crest for a load on it)
     h: float = 1.0      # size near it, m
     where: str = "loads"
+    h_source: str = "section.mesh_size"   # the field that sets h
 
 
 @dataclass
@@ -82,6 +85,10 @@ class Plan:
     # loaded spans: x from, x to, size near, elevation of the loaded surface
     footprints: list[tuple[float, float, float, float]] = field(default_factory=list)
     crest_breaks: list[float] = field(default_factory=list)
+    near_source: str = "section.mesh_size"   # the field that sets the size near the loads
+    finished: bool = False
+    graded: list = field(default_factory=list)   # the graded boundary pieces (grading.py)
+    count: tuple = (0.0, {})                     # estimated triangles, by field (finish)
 
     @property
     def tol(self) -> float:
@@ -123,9 +130,14 @@ class Plan:
                 x0 = max(x0, 0.0)
             else:
                 width = x1 - x0
-            plan.checkinside(x0, x1, where)
-            plan.loads.append(LoadPlace(ld.name, x0, x1, h=plan.near(width), where=where))
+            plan.check_inside(x0, x1, where)
+            plan.loads.append(LoadPlace(ld.name, x0, x1, h=plan.near(width), where=where,
+                                        h_source=plan.near_field(where)))
         return plan
+
+    def near_field(self, width_field: str) -> str:
+        """The field that sets the near size of a load whose width is ``width_field``."""
+        return "section.mesh_size" if self.model.section.mesh_size is not None else width_field
 
     def near(self, width: float) -> float:
         """Element size near a load of this (physical) width, m."""
@@ -138,7 +150,7 @@ class Plan:
             return float(given)
         return width / 10
 
-    def checkinside(self, x0: float, x1: float, where: str) -> None:
+    def check_inside(self, x0: float, x1: float, where: str) -> None:
         if x0 < self.x_min - self.tol or x1 > self.x_max + self.tol:
             raise InputError(f"{x0:g} to {x1:g} m lies outside the model, x = {self.x_min:g} "
                              f"to {self.x_max:g} m", field=where, source=self.model.source,
@@ -149,20 +161,49 @@ class Plan:
         return yl + (yr - yl) * (x - self.x_min) / (self.x_max - self.x_min)
 
     # --------------------------------------------------------------- sizes
+    def loaded_spans(self) -> list[tuple[float, float, float, float]]:
+        """(x from, x to, size near, elevation of the loaded surface) of each loaded span:
+        the footprints (embankment, footings) and the surface loads on the ground."""
+        return list(self.footprints) + [(ld.x0, ld.x1, ld.h, 0.0) for ld in self.loads
+                                        if ld.y == 0.0]
+
+    def finish(self, limit: float | None = None, refuse: bool = True) -> None:
+        """Complete the size field (once): loads, layers, the far size; then, unless the
+        estimated count exceeds ``limit`` (None: ``section.max_elements``, else
+        :data:`solver.model.MAX_ELEMENTS`), the grading toward draining boundaries within its
+        budget and the limit. Over the limit: :class:`InputError` when ``refuse``, else the
+        plan stays ungraded. ``self.count`` is the estimate, (count, {field: count})."""
+        if self.finished:
+            return
+        self.finished = True
+        self._finish_sizes()
+        from .estimate import plan_element_count, refuse_count
+        from .grading import add_grading
+        if limit is None:
+            limit = self.model.section.max_elements or MAX_ELEMENTS
+        self.count = plan_element_count(self)
+        if self.count[0] > limit:
+            if refuse:
+                refuse_count(self, *self.count, limit)
+            return
+        self.graded = add_grading(self, lambda _: plan_element_count(self)[0],
+                                  base=self.count[0], cap=limit)
+        if self.graded:
+            self.count = plan_element_count(self)
+
     def _finish_sizes(self) -> None:
-        spans = list(self.footprints)
+        spans = self.loaded_spans()
         for ld in self.loads:
             h0 = ld.h
-            if ld.y == 0.0:
-                spans.append((ld.x0, ld.x1, h0, 0.0))
-            self.size.add_segment(ld.x0, ld.y, ld.x1, ld.y, h0)
+            self.size.add_segment(ld.x0, ld.y, ld.x1, ld.y, h0, source=ld.h_source)
             for x in (ld.x0, ld.x1):
                 if not (self.symmetric and abs(x) <= self.tol):
-                    self.size.add_point(x, ld.y, EDGE_FACTOR * h0)
+                    self.size.add_point(x, ld.y, EDGE_FACTOR * h0, source=ld.h_source)
         # Under each loaded span: every layer at most a third of its (mean) thickness, every
         # interface at the load's size; both relax to half the growth rate times their depth
         # below the loaded surface, so that deep lines under a narrow load stay coarse.
         n = len(self.layer_names)
+        near_source = self.near_source
         for a, b, h0, y_load in spans:
             for j in range(n):
                 top = (self.y_line(j, a), self.y_line(j, b))
@@ -172,21 +213,28 @@ class Plan:
                 cap = max(t / 3, relax, h0 / 10)
                 if cap < h0:
                     poly = dedupe([(a, bot[0]), (b, bot[1]), (b, top[1]), (a, top[0])],
-                                   closed=True)
+                                  closed=True)
                     if len(poly) >= 3:
-                        self.size.add_polygon(poly, cap)
+                        self.size.add_polygon(poly, cap, source=f"layers[{j + 1}].thickness")
                 if 0 < j:
-                    self.size.add_segment(a, top[0], b, top[1], max(h0, relax))
-        # Everywhere: no element much longer than its layer is thick (no slivers far away).
+                    self.size.add_segment(a, top[0], b, top[1], max(h0, relax),
+                                          source=near_source)
+        # Everywhere: no element much longer than its layer is thick (no slivers far away);
+        # a layer with its own mesh_size keeps it throughout.
         for j in range(n):
             (tl, tr), (bl, br) = self.lines[j], self.lines[j + 1]
             poly = dedupe([(self.x_min, bl), (self.x_max, br), (self.x_max, tr),
-                            (self.x_min, tl)], closed=True)
-            self.size.add_polygon(poly, 0.5 * ((tl - bl) + (tr - br)), SHAPE_GROWTH)
+                           (self.x_min, tl)], closed=True)
+            self.size.add_polygon(poly, 0.5 * ((tl - bl) + (tr - br)), SHAPE_GROWTH,
+                                  source=f"layers[{j + 1}].thickness")
+            own = self.model.layers[j].mesh_size
+            if own is not None and len(poly) >= 3:
+                self.size.add_polygon(poly, float(own), source=f"layers[{j + 1}].mesh_size")
         if spans:
             self.size.far = FAR_FACTOR * max(sp[2] for sp in spans)
         else:
             self.size.far = default_mesh_size(self.model)   # nothing loaded: uniform
+        self.size.far_source = extent_source(self.model)
 
     # --------------------------------------------------------------- gmsh
     def layer_polygons(self) -> list[list[Point]]:
@@ -203,9 +251,45 @@ class Plan:
             polys.append(dedupe(pts, closed=True))
         return polys
 
+    def inside_domain(self, x: np.ndarray, y: np.ndarray) -> np.ndarray:
+        """Which points (arrays) lie in the section: ground above the base, out of the
+        notches, or in a lift."""
+        base = self.lines[-1]
+        s = (x - self.x_min) / (self.x_max - self.x_min)
+        ok = (y <= 0.0) & (y >= base[0] + (base[1] - base[0]) * s) & \
+            (x >= self.x_min) & (x <= self.x_max)
+        for _, a, b, d in self.notches:
+            ok &= ~((x > a) & (x < b) & (y > -d))
+        for poly in self.lifts:
+            ok |= inside(poly, x, y)
+        return ok
+
     def mesh(self, source: str) -> Mesh:
-        self._finish_sizes()
+        self.finish()
         return gmsh_section.build(self, source)
+
+
+def extent_source(model) -> str:
+    """The field that sets the width of the domain: section.width, else what is loaded."""
+    sec = model.section
+    if sec.width is not None:
+        return "section.width"
+    reach: list[tuple[float, str]] = []       # (how far it reaches from x = 0, m; field)
+    emb = sec.embankment if sec.kind == "embankment" else None
+    if emb is not None:
+        path = "section.embankment"
+        reach += [(abs(emb.crest_width) / 2, f"{path}.crest_width"),
+                  (abs(emb.side_slope * emb.height), f"{path}.side_slope"),
+                  (sum(abs(b.width) for b in emb.berms), f"{path}.berms")]
+    if sec.kind == "footings":
+        for i, f in enumerate(sec.footings):
+            path = f"section.footings[{i + 1}]"
+            reach += [(abs(f.center), f"{path}.center"), (abs(f.width) / 2, f"{path}.width")]
+    for i, ld in enumerate(model.loads):
+        reach += [(abs(ld.x_left), f"loads[{i + 1}].x_left"),
+                  (abs(ld.x_right), f"loads[{i + 1}].x_right")]
+    reach = [r for r in reach if r[0] == r[0]]      # NaN out
+    return max(reach)[1] if reach else "layers"
 
 
 def is_symmetric(model) -> bool:
