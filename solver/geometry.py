@@ -208,14 +208,19 @@ def strip_load_section(half_width: float, depth: float, load_half_width: float,
     return m
 
 
-def mesh_geo_file(path: Path) -> Mesh:
-    """Mesh a Gmsh ``.geo`` file with second-order triangles and read its named groups."""
+def mesh_geo_file(path: Path, before_meshing: Callable | None = None) -> Mesh:
+    """Mesh a Gmsh ``.geo`` file with second-order triangles and read its named groups.
+
+    ``before_meshing(gmsh)``, when given, runs once the file is open (to add size fields).
+    """
     with gmsh_session() as gmsh:
         try:
             gmsh.open(str(path))
         except Exception as exc:
             raise MeshError(f"gmsh cannot read it: {exc}", source=str(path),
                             fix="open the file in Gmsh and fix the reported line.") from None
+        if before_meshing is not None:
+            before_meshing(gmsh)
         gmsh.option.setNumber("Mesh.ElementOrder", 2)
         gmsh.option.setNumber("Mesh.SecondOrderLinear", 1)
         gmsh.model.mesh.generate(2)

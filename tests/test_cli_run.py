@@ -233,6 +233,12 @@ def test_mesh_study_prints_a_row_per_probe_and_a_verdict(tmp_path):
     verdict = [ln for ln in study if ln.startswith("Verdict:")]
     assert len(verdict) == 1
     assert "fine enough" in verdict[0] or "REFINE THE MESH" in verdict[0]
+    # the whole field and every line, at every output time, with where and when
+    assert any("Excess pore pressure field" in ln for ln in study)
+    assert any("Settlement along the lines" in ln for ln in study)
+    assert any(ln.strip().startswith("Largest change of the excess pore pressure:")
+               and " days (" in ln for ln in study)
+    assert "excess pore pressure field by" in verdict[0]
 
 
 # ------------------------------------------------------------------------- bad input

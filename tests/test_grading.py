@@ -135,9 +135,7 @@ def test_a_layer_sets_its_own_element_size():
     coarse = build_mesh(model)
     model.layers[2].mesh_size = 0.5                    # the lower clay
     mesh = build_mesh(model)
-    region = mesh.region == mesh.region_id("lower_clay")
-    tri = mesh.points[mesh.triangles[region][:, :3]]
-    sides = np.linalg.norm(tri - np.roll(tri, 1, axis=1), axis=2)
+    sides = triangle_sides(mesh, "lower_clay")
     assert sides.max() < 0.5 * 1.5 and np.median(sides) < 0.5
     assert mesh.n_elements > 3 * coarse.n_elements
 
@@ -188,3 +186,37 @@ def test_the_size_table_stays_small_for_any_box():
         assert 0.01 <= size(0.5, 0.0) <= 10.0
     with pytest.raises(ValueError):
         field.sampled(0.0, math.inf, -1.0, 0.0)
+
+
+def triangle_sides(mesh, region):
+    tri = mesh.points[mesh.triangles[mesh.region == mesh.region_id(region)][:, :3]]
+    return np.linalg.norm(tri - np.roll(tri, 1, axis=1), axis=2)
+
+
+def test_a_region_of_a_geo_mesh_sets_its_own_element_size():
+    model = load_model(EXAMPLES / "irregular_section.toml")
+    model.section.mesh_file = model.section.mesh_file.replace(".msh", ".geo")
+    before = build_mesh(model)
+    model.section.region_mesh_size = {"soft_lens": 0.3}
+    mesh = build_mesh(model)
+    sides = triangle_sides(mesh, "soft_lens")
+    assert np.median(triangle_sides(before, "soft_lens")) > 0.9     # the file's own sizes
+    assert np.median(sides) < 0.3 and sides.max() < 0.3 * 1.5
+    # the rest of the section keeps the file's sizes
+    assert np.median(triangle_sides(mesh, "sand")) == pytest.approx(
+        np.median(triangle_sides(before, "sand")), rel=0.2)
+
+
+def test_region_sizes_need_a_geo_file_and_a_region_of_it():
+    import tomllib
+    data = tomllib.loads((EXAMPLES / "irregular_section.toml").read_text())
+    data["section"]["region_mesh_size"] = {"soft_lens": 0.3}
+    with pytest.raises(InputError) as exc:                  # a .msh is meshed already
+        model_from_dict(data, source=str(EXAMPLES / "irregular_section.toml"))
+    assert exc.value.field == "section.region_mesh_size"
+    data["section"]["mesh_file"] = data["section"]["mesh_file"].replace(".msh", ".geo")
+    data["section"]["region_mesh_size"] = {"soft_lenz": 0.3}
+    with pytest.raises(InputError) as exc:
+        model_from_dict(data, source=str(EXAMPLES / "irregular_section.toml"))
+    assert exc.value.field == "section.region_mesh_size.soft_lenz"
+    assert "soft_lens" in str(exc.value)

@@ -62,9 +62,16 @@ def section_lengths(model) -> list[tuple[str, float, str, str]]:
     add("section.width", sec.width)
     add("section.depth", sec.depth)
     add("section.mesh_size", sec.mesh_size, "size")
+    grading = getattr(sec, "grading", None)
+    if grading is not None:
+        add("section.grading.boundary_size", grading.boundary_size, "size")
+        add("section.grading.min_size", grading.min_size, "size")
+    for name, h in (getattr(sec, "region_mesh_size", None) or {}).items():
+        add(f"section.region_mesh_size.{name}", h, "size")
     for i, la in enumerate(model.layers):
         add(f"layers[{i + 1}].thickness", la.thickness)
         add(f"layers[{i + 1}].thickness_right", la.thickness_right)
+        add(f"layers[{i + 1}].mesh_size", getattr(la, "mesh_size", None), "size")
     emb = sec.embankment if sec.kind == "embankment" else None
     if emb is not None:
         p = "section.embankment"

@@ -40,13 +40,19 @@ crest edges, bench corners, footing corners, load ends). Inside each lift the si
 half the lift's thickness. Under the load every layer is at most a third of its thickness and
 every interface at h0; both relax with depth below a narrow load. The size grows linearly
 with distance from these places (``GROWTH`` m per m) up to ``FAR_FACTOR`` times the largest
-h0, and no element is much longer than its layer is thick.
+h0, and no element is much longer than its layer is thick. A layer's ``mesh_size`` holds in
+it throughout. Draining boundaries and permeability-contrast interfaces are graded to the
+boundary layer of the first time step (:mod:`.grading`), within an element budget. The
+number of triangles is estimated before gmsh is called (:mod:`.estimate`) and a section above
+``section.max_elements`` is refused.
 
 Modules
 -------
-:mod:`.plan` (extent, layer lines, loads, sizes before gmsh), :mod:`.sizes` (the size field),
-:mod:`.gmsh_section` (the plan meshed and its groups named), :mod:`.polygons`, and one module
-per section kind: :mod:`.embankment`, :mod:`.footings`, :mod:`.ground`, :mod:`.user_mesh`.
+:mod:`.plan` (extent, layer lines, loads, sizes before gmsh), :mod:`.sizes` (the size field,
+its table for gmsh and its integral), :mod:`.grading` (sizes at draining boundaries),
+:mod:`.estimate` (the element count and the refusal), :mod:`.gmsh_section` (the plan meshed
+and its groups named), :mod:`.polygons`, and one module per section kind:
+:mod:`.embankment`, :mod:`.footings`, :mod:`.ground`, :mod:`.user_mesh`.
 """
 
 from __future__ import annotations

@@ -14,6 +14,8 @@ from ..errors import InputError
 from ..mesh import Mesh
 from ..model import MAX_ELEMENTS, base_elevation, domain_extent, loaded_spans
 from . import gmsh_section
+from .grading import add_grading
+from .limits import refuse_count
 from .polygons import Point, dedupe, inside
 from .sizes import EDGE_FACTOR, FAR_FACTOR, GROWTH, SHAPE_GROWTH, SizeField
 
@@ -177,19 +179,23 @@ class Plan:
             return
         self.finished = True
         self._finish_sizes()
-        from .estimate import plan_element_count, refuse_count
-        from .grading import add_grading
         if limit is None:
             limit = self.model.section.max_elements or MAX_ELEMENTS
-        self.count = plan_element_count(self)
+        self.count = self.element_count()
         if self.count[0] > limit:
             if refuse:
                 refuse_count(self, *self.count, limit)
             return
-        self.graded = add_grading(self, lambda _: plan_element_count(self)[0],
+        self.graded = add_grading(self, lambda _: self.element_count()[0],
                                   base=self.count[0], cap=limit)
         if self.graded:
-            self.count = plan_element_count(self)
+            self.count = self.element_count()
+
+    def element_count(self) -> tuple[float, dict[str, float]]:
+        """(count, {source field: count}): the size field integrated over the section."""
+        top = max([0.0] + [y for p in self.lifts for _, y in p])
+        return self.size.element_count(self.x_min, self.x_max, -self.depth, top,
+                                       self.inside_domain)
 
     def _finish_sizes(self) -> None:
         spans = self.loaded_spans()

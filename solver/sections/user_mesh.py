@@ -5,7 +5,7 @@ from __future__ import annotations
 from pathlib import Path
 
 from ..errors import InputError
-from ..geometry import read_mesh
+from ..geometry import mesh_geo_file, read_mesh
 from ..mesh import Mesh
 
 
@@ -23,4 +23,26 @@ def file_mesh(model) -> Mesh:
         beside = Path(model.source).parent / path
         if beside.exists():
             path = beside
+    sizes = model.section.region_mesh_size
+    if sizes and path.suffix == ".geo" and path.exists():
+        return mesh_geo_file(path, lambda gmsh: _region_sizes(gmsh, sizes, model))
     return read_mesh(path)
+
+
+def _region_sizes(gmsh, sizes: dict[str, float], model) -> None:
+    """Each named region (its surfaces and their boundary curves) at most its size; gmsh's
+    own size there (the file's point sizes, its fields) still holds where it is smaller."""
+    groups = {gmsh.model.getPhysicalName(2, tag): tag
+              for _, tag in gmsh.model.getPhysicalGroups(2)}
+    cap: dict[tuple[int, int], float] = {}
+    for name, h in sizes.items():
+        if name not in groups:
+            raise InputError(f"the mesh has no region named {name!r}",
+                             field=f"section.region_mesh_size.{name}", source=model.source,
+                             fix=f"name one of the mesh's regions: {', '.join(sorted(groups))}.")
+        surfaces = [(2, int(s)) for s in gmsh.model.getEntitiesForPhysicalGroup(2, groups[name])]
+        for dimtag in surfaces + [(d, abs(t)) for d, t in gmsh.model.getBoundary(
+                surfaces, combined=False, oriented=False, recursive=False)]:
+            cap[dimtag] = min(cap.get(dimtag, float("inf")), float(h))
+    gmsh.model.mesh.setSizeCallback(
+        lambda dim, tag, x, y, z, lc: min(lc, cap.get((dim, tag), lc)))
