@@ -254,8 +254,8 @@ class Simulation:
                 self.tractions.append(Traction(edge, vertical=pressure, history=ramp,
                                                vertical_gradient=12 * pressure * e / ft.width ** 2,
                                                x_ref=ft.center))
-        # Fill below the water table weighs its buoyant weight (BodyForce). The level is the
-        # one at the start (submergence as the ground settles is not followed).
+        # Fill below the water table weighs its buoyant weight (BodyForce), also fill that
+        # sinks below it as the ground settles (BiotProblem.submergence_force).
         gw, level = m.water.unit_weight, -m.water.table_depth
         for r in self.lift_regions:
             ramp = self.ramps[r] = Ramp()

@@ -100,3 +100,39 @@ def test_at_the_undrained_instant_the_ground_under_a_free_draining_fill_keeps_it
     interface = interface[interface >= 0]
     assert interface.size > 5 and free[interface].all()
     assert np.abs(per_node[free]).max() < 1e-9 * scale.max()
+
+
+@pytest.mark.parametrize("newton", [False, True])
+def test_fill_that_sinks_below_the_water_table_loses_the_weight_of_the_water_it_displaces(newton):
+    # A fill of height h_f on a layer of thickness H in one dimension, the water table at the
+    # original ground: the ground settles s, so the lowest s of the fill is under water and
+    # weighs gamma_sat - gamma_w instead of gamma. Equilibrium of the settled state:
+    # s = H (gamma h_f - (gamma - gamma_sat + gamma_w) s) / E_oed, so
+    # s = H gamma h_f / (E_oed + H (gamma - gamma_sat + gamma_w)) (common practice: the
+    # submergence correction of embankment settlement, here exact for a linear layer).
+    # Without following the submergence s = H gamma h_f / E_oed, 3.9 % more here.
+    from solver.geometry import layered_rectangle
+    from solver.model import Drainage
+    H, h_f, E_oed, g, g_sat = 5.0, 2.0, 1000.0, 18.0, 20.0
+    mesh = layered_rectangle(1.0, [("fill", h_f), ("clay", H)], 0.25, top=h_f)
+    clay = Material("clay", constrained_modulus=E_oed, poisson_ratio=0.3, unit_weight=17.0,
+                    permeability_x=0.1)
+    fill = Material("fill", constrained_modulus=1e6, poisson_ratio=0.3, unit_weight=g,
+                    saturated_unit_weight=g_sat)
+    model = Model(title="fill sinking into the water table (invented)",
+                  materials={"clay": clay, "fill": fill},
+                  section=Section(kind="mesh", regions={"fill": "fill", "clay": "clay"},
+                                  width=1.0, depth=H + h_f),
+                  water=Water(table_depth=0.0, unit_weight=G_W),
+                  drainage=Drainage(drained_edges=["top", "interface_1"],
+                                    fixed_edges=["bottom"], roller_edges=["left", "right"]),
+                  stages=[Stage("place", "lift", 1.0, region="fill"),
+                          Stage("wait", "consolidate", 20000.0)],
+                  time_steps=TimeSteps(first_step=0.5, growth=2.0, steps_per_level=2),
+                  probes=[PointProbe("ground", 0.5, 0.0)])
+    sim = Simulation(model, mesh=mesh)
+    sim.nonlinear = newton               # the Newton path follows it too
+    s = run(sim).probe("ground")["settlement_m"][-1]
+    exact = H * g * h_f / (E_oed + H * (g - g_sat + G_W))
+    # the fill's own compression (stiff, 4e-5 of strain) shifts the submerged depth slightly
+    assert abs(s / exact - 1) < 1e-5

@@ -92,6 +92,7 @@ class BodyForce:
     ``submerged_unit_weight`` instead: its buoyant weight gamma_sat - gamma_w, since the
     solver's pore pressure is the excess over the hydrostatic one, whose gradient carries
     gamma_w of the saturated weight (Archimedes; common practice for fill under water).
+    Which part is below follows the displacement (:meth:`BiotProblem.submergence_force`).
     """
     region: str
     unit_weight: float
@@ -189,8 +190,49 @@ class BiotProblem:
                 k += 1
         self.n_plate_unknowns = k
 
+    def _submerging(self) -> list:
+        """(body force, its elements, int N below the level as drawn) of each weight that
+        changes when its region sinks below a water level."""
+        if not hasattr(self, "_sub"):
+            self._sub = []
+            mesh = self.mesh
+            for bf in self.body_forces:
+                if bf.water_level is None or bf.submerged_unit_weight is None or \
+                        bf.submerged_unit_weight == bf.unit_weight:
+                    continue
+                e = np.flatnonzero(mesh.region == mesh.region_id(bf.region))
+                z = mesh.points[mesh.triangles[e, :3], 1]
+                self._sub.append((bf, e, self.disc.below_level_integrals(e, z, bf.water_level)))
+        return self._sub
+
+    @property
+    def follows_submergence(self) -> bool:
+        """Whether some weight depends on the displacement (a lift near a water level)."""
+        return bool(self._submerging())
+
+    def submergence_force(self, t: float, u: np.ndarray) -> np.ndarray:
+        """The change of the lifts' weight (n_u,) at time t when their points sit where the
+        displacement u (n_u,) has taken them instead of where the section draws them: the
+        part that has sunk below the water level weighs its buoyant weight (upward
+        positive). Corner elevations y + u_y, linear over each element
+        (:meth:`Discretisation.below_level_integrals`)."""
+        mesh = self.mesh
+        f = np.zeros(self.disc.n_u)
+        for bf, e, below0 in self._submerging():
+            s = bf.history(t)
+            if not s:
+                continue
+            tri = mesh.triangles[e, :3]
+            z = mesh.points[tri, 1] + u[2 * tri + 1]
+            below = self.disc.below_level_integrals(e, z, bf.water_level)
+            d = s * (bf.unit_weight - bf.submerged_unit_weight) * (below - below0)
+            f[1::2] += np.bincount(mesh.triangles[e].ravel(), weights=d.ravel(),
+                                   minlength=mesh.n_nodes)
+        return f
+
     def _body_force_vector(self, bf: BodyForce) -> np.ndarray:
-        """Consistent nodal forces (n_u,) of a region's weight at its full value."""
+        """Consistent nodal forces (n_u,) of a region's weight at its full value, with the
+        region where the section draws it (see :meth:`submergence_force`)."""
         d, mesh = self.disc, self.mesh
         inside = mesh.region == mesh.region_id(bf.region)
         f = d.body_force_vector(np.zeros(mesh.n_elements), -bf.unit_weight * inside)
@@ -368,9 +410,14 @@ class BiotProblem:
         """Reduced coupled matrix for a step of length dt (days)."""
         return self.constraints(dt).reduce(self.full_matrix(dt).data)
 
-    def right_hand_side(self, x_old: np.ndarray, t_new: float, dt: float) -> np.ndarray:
+    def right_hand_side(self, x_old: np.ndarray, t_new: float, dt: float,
+                        u: np.ndarray | None = None) -> np.ndarray:
+        """T^T (f(t_new) - A x_fixed) with the storage terms of x_old; with ``u`` the
+        weights of the lifts as submerged at that displacement (:meth:`submergence_force`)."""
         c = self.constraints(dt)
         f, plate = self.external_force(t_new)
+        if u is not None and self.follows_submergence:
+            f[:self.disc.n_u] += self.submergence_force(t_new, u)
         f[self.disc.n_u:] = self._A0_p @ x_old
         if c.has_prescribed:
             f -= self.full_matrix(dt) @ c.x_fixed
@@ -637,16 +684,45 @@ class StepSolver:
         if dt < 0:
             raise ValueError("time must not decrease")
         pb = self.problem
-        b = pb.right_hand_side(state.x, t_new, dt)
+        follow = pb.follows_submergence
+        b = pb.right_hand_side(state.x, t_new, dt, u=state.u if follow else None)
         fac = self.factor_for(dt)
         t0 = time.perf_counter()
         y = fac.solve(b)
         self.solve_seconds.append(time.perf_counter() - t0)
+        x = pb.expand(y, dt)
+        if follow:
+            x = self._submerge(state, t_new, dt, b, x, fac)
         if dt == 0:
             # The undrained instant is solved once (the next load brings its own): release
             # it before the first consolidating step is factored.
             self.cache.release((pb.version, 0.0))
-        return State(t_new, pb.expand(y, dt), pb.disc.n_u)
+        return State(t_new, x, pb.disc.n_u)
+
+    def _submerge(self, state, t_new, dt, b, x, fac, tol=1e-9, max_iter=50):
+        """Weights that follow the settlement (fill sinking below the water level): the step
+        is solved again with the weights at the new displacement, on the same
+        factorization, until they no longer change (a fixed point: the change of weight
+        per unit settlement, about gamma_w times the loaded width, is small against the
+        stiffness of the ground, so each pass shrinks the change by that ratio)."""
+        from ..errors import SolverError
+        pb = self.problem
+        n_u = pb.disc.n_u
+        c = pb.constraints(dt)
+        g_used = pb.submergence_force(t_new, state.u)
+        scale = max(sum(np.abs(v).sum() for _, v in pb._body), 1e-300)
+        for _ in range(max_iter):
+            g = pb.submergence_force(t_new, x[:n_u])
+            change = g - g_used
+            if np.abs(change).sum() <= tol * scale:
+                return x
+            full = np.zeros(pb.disc.n_dofs)
+            full[:n_u] = change
+            b = b + c.restrict(full)
+            g_used = g
+            x = pb.expand(fac.solve(b), dt)
+        raise SolverError(f"the weight of fill sinking below the water level did not settle "
+                          f"in {max_iter} passes at t = {t_new:.6g} days")
 
     def release(self) -> None:
         """Free every factorization held (later steps factor again as needed)."""

@@ -174,6 +174,8 @@ class NewtonStepSolver:
             pd = (d.p_dofs - n_u).ravel()
             R = np.zeros(d.n_dofs)
             R[:n_u] = f_ext[:n_u] - F_int + Qp
+            if pb.follows_submergence:    # fill sinking below the water level
+                R[:n_u] += pb.submergence_force(t_new, u)
             R[n_u:] = np.bincount(pd, weights=(QTdu + SMdp + Hp).ravel(), minlength=d.n_p)
             r = c.restrict(R)
             # Plate unknowns: the plate force minus what the tied nodes already carry.
