@@ -97,6 +97,16 @@ def test_a_saturated_unit_weight_below_water_is_refused_wherever_it_is():
     assert "a saturated soil is heavier than water" in str(err)
 
 
+def test_a_fill_lighter_than_water_is_refused_only_under_standing_water():
+    # Under standing water a lift loads the ground with its buoyant weight (docs/model.md):
+    # a fill lighter than water would pull the ground up.
+    light = (("materials", "fill", "unit_weight"), 8.0)
+    err = refusal(light, (("water", "table_depth"), -1.0))
+    assert err.field == "materials.fill.unit_weight"
+    w = warnings_of(light)        # above the water table: a lightweight fill, only warned
+    assert any(t.startswith("materials.fill.unit_weight: unit_weight = 8 kN/m3") for t in w)
+
+
 def test_a_unit_weight_of_water_typed_ten_times_too_large_is_named_in_the_fix():
     err = refusal((("water", "unit_weight"), 98.1))
     assert "water.unit_weight" in str(err) and "98.1 kN/m3" in str(err)

@@ -237,7 +237,9 @@ def _materials_below_water(model) -> set[str]:
     """Materials of the ground that lie at least partly below the water table at the start.
 
     Layers reach from the ground down; a user mesh's regions are taken as below the table
-    except those placed by a lift stage (fill above the ground)."""
+    except those placed by a lift stage (fill above the ground), and fill (embankment or
+    placed region) is below it under standing water (a negative table depth), where it
+    loads the ground with its buoyant weight."""
     table = model.water.table_depth
     out = set()
     depth = 0.0
@@ -246,6 +248,9 @@ def _materials_below_water(model) -> set[str]:
         if bottom > table:
             out.add(la.material)
         depth = bottom
+    emb = model.section.embankment if model.section.kind == "embankment" else None
+    if emb is not None and table < 0:
+        out.add(emb.material)
     if model.section.kind == "mesh":
         placed = {st.region for st in model.stages if st.kind == "lift"}
         out |= {mat for region, mat in model.section.regions.items()
