@@ -21,7 +21,8 @@ from solver.errors import InputError
 from solver.hand import rate, settlement, stress
 from solver.hand.estimate import disc_displacement, hand_estimate
 from solver.model import (Drainage, Embankment, Footing, Layer, Material, Model, OedometerParameters,
-                          PointProbe, Section, Stage, SurfaceLoad, TimeSteps, Water, load_model)
+                          PointProbe, Section, Stage, SurfaceLoad, TimeSteps, UndrainedParameters, Water,
+                          load_model)
 
 GW = 9.81
 
@@ -295,8 +296,12 @@ def test_cam_clay_layer_uses_lambda_and_kappa():
 # ----------------------------------------------------------------------------- footings
 
 
+EU = 6500.0   # the footing clay's undrained modulus (kPa), given as the user would
+
+
 def footing_model(axisymmetric=False, rigid=False, width=2.0, load=100.0, embedment=0.0) -> Model:
-    clay = Material("clay", youngs_modulus=6000.0, poisson_ratio=0.3, unit_weight=18.0, permeability_x=1e-4)
+    clay = Material("clay", youngs_modulus=6000.0, poisson_ratio=0.3, unit_weight=18.0, permeability_x=1e-4,
+                    undrained=UndrainedParameters(modulus=EU))
     return Model("footing (invented)", analysis="axisymmetric" if axisymmetric else "plane strain",
                  materials={"clay": clay}, layers=[Layer("clay", "clay", 8.0)],
                  section=Section(kind="footings", half=not axisymmetric,
@@ -313,7 +318,7 @@ def test_strip_footing_stress_2to1_and_immediate_settlement():
     z = p.depth_m
     np.testing.assert_allclose(p.stress_increase_kPa, stress.uniform_strip_stress(0.0, z, 2.0, 100.0)[0])
     np.testing.assert_allclose(p.stress_increase_2to1_kPa, 100.0 * 2.0 / (2.0 + z))   # 2:1 (common practice)
-    eu = 1.5 * 6000.0 / 1.3                        # E_u with nu_u = 0.5 (common practice)
+    eu = EU                                        # the undrained modulus given
     ref = settlement.strip_immediate_settlement(0.0, 100.0, 2.0, 8.0, eu, 0.5)   # Steinbrenner 1934
     assert p.immediate_settlement_m == pytest.approx(float(ref), rel=1e-9)
 
@@ -334,7 +339,7 @@ def test_circular_footing_on_axis_and_off_axis():
     c, e = h.probes["centre"], h.probes["edge"]
     np.testing.assert_allclose(c.stress_increase_kPa, stress.circle_centre_stress(c.depth_m, 1.5, 120.0)[0],
                                rtol=1e-9)
-    eu = 1.5 * 6000.0 / 1.3
+    eu = EU
     ref = settlement.circle_immediate_settlement(120.0, 1.5, eu, 0.5, layer_thickness=8.0)
     assert c.immediate_settlement_m == pytest.approx(ref, rel=1e-9)
     assert 0.0 < e.immediate_settlement_m < c.immediate_settlement_m

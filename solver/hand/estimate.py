@@ -49,19 +49,29 @@ and, for every point probe, puts together the pure functions of this package:
 
 3. **Immediate (undrained elastic) settlement** of strips and discs on the layered ground down
    to the base of the model (a rigid base): the influence functions of
-   :mod:`solver.hand.elastic` summed layer by layer (:mod:`solver.hand.immediate`), each layer with its own undrained
-   modulus (Steinbrenner 1934, *Tafeln zur Setzungsberechnung*, Die Strasse 1: the half-space
-   strain integrated between the layer's faces). The undrained modulus is
-   ``E_u = 1.5 E' / (1 + nu')``, i.e. the same shear modulus with ``nu_u = 0.5`` (common
-   practice). Free-draining layers (below) have no undrained stage: their settlement is all in
-   the consolidation part. The embankment is a stack of uniform strips for this. Under a rigid
-   footing (a probe at its base, inside its width) the immediate settlement is the mean of the
-   flexible profile across the width (strip) or ``pi/4`` of the centre value (disc), as in
+   :mod:`solver.hand.elastic` summed layer by layer (:mod:`solver.hand.immediate`), each layer
+   with its own undrained modulus (Steinbrenner 1934, *Tafeln zur Setzungsberechnung*, Die
+   Strasse 1: the half-space strain integrated between the layer's faces). The undrained
+   modulus is the one the user gives in ``materials.NAME.undrained`` (``modulus``, or
+   ``strength`` times ``modulus_ratio``); a layer without it adds no immediate settlement and
+   the notes say so: it is not derived from the drained modulus, since the oedometer
+   settlement already holds the whole drained volume change and an undrained distortion
+   worked out from drained stiffness would overstate the total. Free-draining layers (below)
+   have no undrained stage: their settlement is all in the consolidation part. The
+   embankment is a stack of uniform strips for this. Under a rigid footing (a probe at its
+   base, inside its width) the immediate settlement is the mean of the flexible profile
+   across the width (strip) or ``pi/4`` of the centre value (disc), as in
    :mod:`solver.hand.elastic`, and the stress increase of that footing is taken at the
    characteristic point, 0.37 B from the centre of a strip and 0.845 R from that of a circle
    (Grasshoff 1955, *Setzungsberechnungen starrer Fundamente mit Hilfe des kennzeichnenden
    Punktes*, Der Bauingenieur 30; values from memory), where the flexible settlement equals
-   the rigid one.
+   the rigid one. Beside the loaded area the immediate part is a heave; it is carried into
+   the final value with a note saying so.
+
+   Where a layer gives Skempton's A (``undrained.pore_pressure_parameter``) its oedometer
+   settlement is multiplied, sublayer by sublayer, by the Skempton-Bjerrum (1957) factor
+   ``[ds3 + A (ds1 - ds3)] / ds_z`` of the elastic stresses under the final load
+   (:func:`~solver.hand.settlement.skempton_bjerrum_factor`), shown per layer.
 
 4. **Secondary compression** with C_alpha from the end of primary consolidation ``t_p`` (the
    time the soil below the probe reaches U = 95 %, :data:`END_OF_PRIMARY_DEGREE`; common
@@ -98,8 +108,9 @@ and, for every point probe, puts together the pure functions of this package:
    (:mod:`solver.hand.differential`).
 
 The final settlement is ``immediate + consolidation (U = 100 %) + secondary to the end of
-the last stage``. The settlement history is ``immediate(t) + consolidation(t) +
-secondary(t)``; the immediate part follows the load factors.
+the last stage``, and ``ProbeEstimate.how_found`` says how each part was found. The
+settlement history is ``immediate(t) + consolidation(t) + secondary(t)``; the immediate part
+follows the load factors.
 
 Units: kN, m, kPa, kN/m3, days; depth z positive downward from the original ground surface.
 The steps live in modules of one job: :mod:`solver.hand.loads` (the model's loads as
@@ -112,22 +123,19 @@ They read :mod:`solver.model` and :mod:`solver.initial` and never the FE code.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
-
 import numpy as np
-from numpy.typing import NDArray
 
-from solver import CAUTION
 from solver.errors import InputError
 from solver.model import Model, domain_extent
 
-from . import differential, history, rate, settlement
+from . import differential, settlement
 from .elastic import disc_displacement
 from .ground import FREE_DRAINING_DEGREE, build_column, free_draining, layer_data
-from .immediate import load_immediate_settlement
-from .loads import (STAIRCASE_STEPS, model_loads, on_rigid_base, part_spread, part_stress,
-                    within_footing)
-from .stages import default_times, ramp, schedule
+from .loads import (STAIRCASE_STEPS, model_loads, on_rigid_base, part_horizontal_stress,
+                    part_spread, part_stress, within_footing)
+from .probe import END_OF_PRIMARY_DEGREE, column_solution, probe_estimate
+from .records import DifferentialEstimate, HandEstimate, ProbeEstimate, StageEstimate
+from .stages import default_times, schedule
 
 __all__ = [
     "FREE_DRAINING_DEGREE",
@@ -141,9 +149,6 @@ __all__ = [
     "disc_displacement",
 ]
 
-END_OF_PRIMARY_DEGREE = 0.95
-"""Degree of consolidation taken as the end of primary consolidation (t95; common practice)."""
-
 RIGID_STRIP_CHARACTERISTIC = 0.37
 """Characteristic point of a rigid strip: this fraction of B from its centre (Grasshoff 1955;
 from memory)."""
@@ -153,140 +158,6 @@ RIGID_CIRCLE_CHARACTERISTIC = 0.845
 from memory)."""
 
 _TOL = 1e-9
-
-
-# ============================================================================ results
-
-
-@dataclass
-class StageEstimate:
-    """One stage seen from a probe: ``settlement_m`` the consolidation settlement of the soil
-    below it at the stage's end, ``ultimate_m`` the settlement the load in place then would
-    give held for ever (the 1D settlement along the stress path), ``degree`` their ratio (the
-    degree of consolidation reached); times in days on the estimate's clock."""
-    name: str
-    kind: str
-    start_days: float
-    end_days: float
-    settlement_m: float
-    ultimate_m: float
-    degree: float
-
-
-@dataclass
-class ProbeEstimate:
-    """The hand estimate at one point probe.
-
-    Scalars: ``probe_depth_m`` (depth of the probe below the original ground; 0 on the
-    surface or in the fill), ``final_settlement_m`` = immediate + consolidation + secondary,
-    ``immediate_settlement_m``, ``consolidation_settlement_m`` (primary, U = 100 % under the
-    final load, along the stress path of the stages),
-    ``secondary_settlement_m`` (to the end of the last stage), ``t50_days``, ``t90_days``,
-    ``end_of_primary_days`` (t95), ``max_excess_pore_pressure_kPa`` (NaN on a drained surface).
-
-    Profile arrays, one value per sublayer below the probe (n_sub,): ``depth_m`` (mid-depth
-    below the original ground), ``stress_increase_kPa`` (half-space, used),
-    ``stress_increase_2to1_kPa`` (quick check), ``initial_effective_stress_kPa``,
-    ``preconsolidation_pressure_kPa`` (NaN for m_v layers), ``sublayer_settlement_m``
-    (ultimate, under the final load along the stress path), ``sublayer_layer`` (names).
-
-    History arrays (nt,): ``time_days``, ``settlement_m`` (immediate + consolidation +
-    secondary), ``consolidation_degree`` (U of the soil below the probe: its consolidation
-    settlement over the settlement the load in place would give held for ever),
-    ``excess_pore_pressure_kPa`` (at the probe depth).
-
-    ``where``: "ground surface", "in the fill", "footing base" or "inside the ground";
-    ``stages``: one :class:`StageEstimate` per stage (the degree reached before each change).
-    """
-    name: str
-    x_m: float
-    y_m: float
-    probe_depth_m: float
-    final_settlement_m: float
-    immediate_settlement_m: float
-    consolidation_settlement_m: float
-    secondary_settlement_m: float
-    t50_days: float
-    t90_days: float
-    end_of_primary_days: float
-    max_excess_pore_pressure_kPa: float
-    depth_m: NDArray[np.float64]
-    stress_increase_kPa: NDArray[np.float64]
-    stress_increase_2to1_kPa: NDArray[np.float64]
-    initial_effective_stress_kPa: NDArray[np.float64]
-    preconsolidation_pressure_kPa: NDArray[np.float64]
-    sublayer_settlement_m: NDArray[np.float64]
-    sublayer_layer: list[str]
-    layer_settlement_m: dict[str, float]
-    time_days: NDArray[np.float64]
-    settlement_m: NDArray[np.float64]
-    consolidation_degree: NDArray[np.float64]
-    excess_pore_pressure_kPa: NDArray[np.float64]
-    notes: list[str] = field(default_factory=list)
-    where: str = "ground surface"
-    stages: list[StageEstimate] = field(default_factory=list)
-
-    @property
-    def on_surface(self) -> bool:
-        """True for a probe on the ground surface, in the fill above it or on a footing base
-        (the probes the differential settlement is taken between)."""
-        return self.where != "inside the ground"
-
-    def settlement_at(self, times) -> NDArray[np.float64]:
-        """Settlement (m) at ``times`` (days), linear between the history's times (held after)."""
-        return np.interp(np.asarray(times, dtype=float), self.time_days, self.settlement_m)
-
-    def stress_at(self, depth: float) -> tuple[float, float]:
-        """(half-space, 2:1) stress increase (kPa) at ``depth`` (m), linear between sublayers."""
-        if self.depth_m.size == 0:
-            return float("nan"), float("nan")
-        return (float(np.interp(depth, self.depth_m, self.stress_increase_kPa)),
-                float(np.interp(depth, self.depth_m, self.stress_increase_2to1_kPa)))
-
-
-@dataclass
-class DifferentialEstimate:
-    """Differential settlement of two neighbouring surface probes through time.
-
-    ``differential_settlement_m`` = settlement of ``probe_a`` minus that of ``probe_b``;
-    ``angular_distortion`` = its absolute value over ``distance_m``; ``checks`` against the
-    Bjerrum (1963) limits of :data:`solver.hand.differential.DEFAULT_DISTORTION_LIMITS`.
-    """
-    probe_a: str
-    probe_b: str
-    distance_m: float
-    time_days: NDArray[np.float64]
-    differential_settlement_m: NDArray[np.float64]
-    angular_distortion: NDArray[np.float64]
-    checks: list[differential.LimitCheck]
-
-    @property
-    def final_differential_settlement_m(self) -> float:
-        return float(self.differential_settlement_m[-1])
-
-    @property
-    def max_angular_distortion(self) -> float:
-        return float(np.max(self.angular_distortion))
-
-
-@dataclass
-class HandEstimate:
-    """The hand estimate of a model: one :class:`ProbeEstimate` per point probe (model order),
-    the differential settlement of neighbouring surface probes, and notes on the model as a
-    whole (parameter conversions, assumptions)."""
-    title: str
-    analysis: str
-    end_days: float
-    probes: dict[str, ProbeEstimate]
-    differential: list[DifferentialEstimate]
-    notes: list[str]
-    caution: str = CAUTION
-
-    def probe(self, name: str) -> ProbeEstimate:
-        if name not in self.probes:
-            raise InputError(f"no probe named {name!r}; the hand estimate has {list(self.probes)}",
-                             field="probes")
-        return self.probes[name]
 
 
 # ============================================================================ the estimate
@@ -364,6 +235,8 @@ def hand_estimate(model: Model, times=None, max_sublayer_thickness: float | None
         col.free, free_notes = free_draining(col, s0_layers, first_time, model.drainage, gw)
         notes.extend(n for n in free_notes if n not in notes)
         unit = {n: sum(part_stress(p, x, zm, axi) for p in loads[n].stress_parts) for n in active}
+        unit_h = {n: sum(part_horizontal_stress(p, x, zm, axi) for p in loads[n].stress_parts)
+                  for n in active}
         unit_spread = {n: sum(part_spread(p, x, zm) for p in loads[n].spread_parts) for n in active}
         final_2to1 = sum((final_factor[n] * unit_spread[n] for n in active), np.zeros_like(zm))
 
@@ -371,8 +244,8 @@ def hand_estimate(model: Model, times=None, max_sublayer_thickness: float | None
         rigid_at = {pr.name: [n for n in active if on_rigid_base(loads[n], x, depth_of[pr.name])]
                     for pr in prs}
         shared_depths = sorted({depth_of[pr.name] for pr in prs if not rigid_at[pr.name]})
-        shared = (_column_solution(model, col, subs, max_sub, unit, active, pieces, final_factor,
-                                   t_out, shared_depths) if shared_depths else None)
+        shared = (column_solution(model, col, subs, max_sub, unit, unit_h, active, pieces,
+                                  final_factor, t_out, shared_depths) if shared_depths else None)
         for pr in prs:
             d = depth_of[pr.name]
             pnotes: list[str] = []
@@ -382,21 +255,23 @@ def hand_estimate(model: Model, times=None, max_sublayer_thickness: float | None
                               "without the fill's own compression.")
             if rigid_at[pr.name]:
                 # a rigid footing at whose base the probe sits: its stress at the characteristic point
-                unit_p = dict(unit)
+                unit_p, unit_hp = dict(unit), dict(unit_h)
                 for n in rigid_at[pr.name]:
                     ld = loads[n]
                     frac = RIGID_CIRCLE_CHARACTERISTIC if axi else RIGID_STRIP_CHARACTERISTIC
                     off = frac * (0.5 if axi else 1.0) * ld.rigid_width
                     unit_p[n] = sum(part_stress(p, ld.center + off, zm, axi) for p in ld.stress_parts)
+                    unit_hp[n] = sum(part_horizontal_stress(p, ld.center + off, zm, axi)
+                                     for p in ld.stress_parts)
                     pnotes.append(f"rigid footing {n!r}: its stress increase taken at the "
                                   f"characteristic point {off:.3g} m from its centre (Grasshoff "
                                   "1955; from memory), its immediate settlement as the rigid "
                                   "value.")
-                sol, j = _column_solution(model, col, subs, max_sub, unit_p, active, pieces,
-                                          final_factor, t_out, [d]), 0
+                sol, j = column_solution(model, col, subs, max_sub, unit_p, unit_hp, active,
+                                         pieces, final_factor, t_out, [d]), 0
             else:
                 sol, j = shared, shared_depths.index(d)
-            est = _probe_estimate(model, pr, d, col, sol, j, final_2to1, loads, active, pieces,
+            est = probe_estimate(model, pr, d, col, sol, j, final_2to1, loads, active, pieces,
                                   spans, final_factor, x, t_out, end, pnotes, axi)
             on_base = any(within_footing(loads[n], x, d)
                           for n in active if n in footing_names)
@@ -406,171 +281,6 @@ def hand_estimate(model: Model, times=None, max_sublayer_thickness: float | None
     ordered = {pr.name: results[pr.name] for pr in model.probes}
     diffs = _differential(ordered, model, notes)
     return HandEstimate(model.title, model.analysis, end, ordered, diffs, notes)
-
-
-FD_GROWTH = 1.05
-"""Ratio of successive time steps of the hand method's consolidation column (its U(t) stays
-within 1e-4 of Terzaghi's; see the tests)."""
-
-
-@dataclass
-class _Solution:
-    """Primary settlement and time rate of one column under one stress field: ``ps`` the
-    profile under the final load (stresses; its settlements are the formula's under the final
-    stress), ``staged`` the settlement through the history."""
-    ps: settlement.ProbeSettlement
-    staged: history.StagedConsolidation
-    depths: list[float]
-
-
-def _increments(pieces, unit, n_sub: int) -> list[history.Increment]:
-    """One increment per stage that changes the load: the stress changes of its pieces summed."""
-    by_stage: dict[int, list] = {}
-    for p in pieces:
-        by_stage.setdefault(p.stage, []).append(p)
-    out = []
-    for k in sorted(by_stage):
-        ps = by_stage[k]
-        change = sum((p.change * unit[p.load] for p in ps), np.zeros(n_sub))
-        out.append(history.Increment(ps[0].start, ps[0].duration, change, str(k)))
-    return out
-
-
-def _column_solution(model, col, subs, max_sub, unit, active, pieces, final_factor, t_out, depths
-                     ) -> _Solution:
-    """Settlement of the whole column through the staged history (the FD needs all of it; the
-    settlement of the soil below each depth is read off afterwards)."""
-    gw = model.water.unit_weight
-    zm = subs.mid
-    stress_final = sum((final_factor[n] * unit[n] for n in active), np.zeros_like(zm))
-    ps = settlement.settlement_under_probe(col.layers, lambda z: stress_final, model.water.table_depth,
-                                           max_sublayer_thickness=max_sub, gamma_w=gw)
-    if ps.mid.size != zm.size or not np.allclose(ps.mid, zm):
-        raise AssertionError("sublayers differ")       # the same split_layers call
-    staged = history.staged_consolidation(
-        col.layers, ps, ps.sigma_v0_kPa, ps.sigma_p_kPa, _increments(pieces, unit, zm.size), t_out,
-        drained_top=bool(model.drainage.top), drained_bottom=bool(model.drainage.base),
-        free_draining_layers=col.free, rate_group=[d.model_index for d in col.data],
-        depths=depths, gamma_w=gw, growth=FD_GROWTH)
-    return _Solution(ps, staged, list(depths))
-
-
-def _probe_estimate(model, pr, d, col, sol, j, final_2to1, loads, active, pieces, spans,
-                    final_factor, x, t_out, end, pnotes, axi) -> ProbeEstimate:
-    """Everything for one probe at depth d; ``sol`` is its column's solution, ``j`` the index
-    of d in ``sol.depths``."""
-    ps, st = sol.ps, sol.staged
-    below = ps.top >= d - 1e-9
-    ultimate = st.final_ultimate_m
-    cons_final = float(np.sum(ultimate[below]))
-    first_layer = int(ps.layer_index[int(np.argmax(below))]) if below.any() else len(col.layers)
-    tf = st.times_days
-    s_fine = st.settlement_below(below)
-    cons_t = np.interp(t_out, tf, s_fine)
-    level = st.ultimate_at(t_out, below)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        degree = np.where(np.abs(level) > 0.0, cons_t / np.where(level != 0.0, level, 1.0), 0.0)
-    t50 = t90 = t95 = float("nan")
-    if cons_final > 0.0:
-        t50, t90, t95 = (rate.first_time_reaching(tf, s_fine / cons_final, f)
-                         for f in (0.5, 0.9, END_OF_PRIMARY_DEGREE))
-    elif cons_final != 0.0:
-        pnotes.append("no consolidation time rate: the load gives no net consolidation below "
-                      "the probe.")
-    u_fine = st.excess_pore_pressure_kPa[:, j]
-    u_probe = np.interp(t_out, tf, u_fine)
-    in_free = (col.tops[:-1] - 1e-9 <= d) & (d <= col.tops[1:] + 1e-9) & col.free
-    drained_here = (d <= 1e-9 and bool(model.drainage.top)) or bool(in_free.any())
-    u_max = float("nan") if drained_here or not st.increments else float(np.max(u_fine))
-    stage_rows = _stage_rows(st, spans, below, tf, s_fine)
-    _history_notes(st, spans, below, stage_rows, pnotes)
-
-    # immediate settlement: each load at factor 1, then the history of factors
-    imm_unit = {n: load_immediate_settlement(loads[n], col, x, d, axi) for n in active}
-    imm_final = float(sum(final_factor[n] * imm_unit[n] for n in active))
-    imm_t = np.zeros(t_out.size)
-    for p in pieces:
-        imm_t += p.change * imm_unit[p.load] * ramp(t_out, p.start, p.duration)
-
-    # secondary compression below d from t95 to the end of the stages, in the sublayers left
-    # normally consolidated by the final load (not those an unloading left overconsolidated;
-    # m_v layers: wherever the load increases)
-    layers_below = col.layers[first_layer:]
-    sec_t = np.zeros(t_out.size)
-    sec_final = 0.0
-    final_eff = ps.sigma_v0_kPa + ps.delta_sigma_kPa
-    loaded = np.where(np.isnan(ps.sigma_p_kPa), ps.delta_sigma_kPa > 0.0,
-                      (final_eff > ps.sigma_p_kPa) & (final_eff >= st.final_memory_kPa * (1.0 - 1e-9)))
-    has_c_alpha = np.array([col.layers[i].secondary_compression_index is not None
-                            for i in ps.layer_index])
-    creeping = below & loaded & has_c_alpha
-    first_memory = np.fmax(ps.sigma_p_kPa, ps.sigma_v0_kPa)
-    preloaded = (st.final_memory_kPa > first_memory * (1.0 + 1e-9)) & \
-        (st.final_memory_kPa > final_eff * (1.0 + 1e-9))
-    if np.any(below & has_c_alpha & preloaded):
-        pnotes.append("no secondary compression where an unloading (a surcharge removed or "
-                      "reduced) has left the soil overconsolidated under the final load "
-                      "(common practice).")
-    if creeping.any() and np.isfinite(t95) and t95 > 0.0:
-        sub_ps = settlement.ProbeSettlement(ps.top[creeping], ps.bottom[creeping],
-                                            ps.layer_index[creeping] - first_layer,
-                                            ps.sigma_v0_kPa[creeping], ps.delta_sigma_kPa[creeping],
-                                            ps.sigma_p_kPa[creeping], ultimate[creeping])
-        sec_t = settlement.secondary_settlement_under_probe(layers_below, sub_ps, t_out, t95)
-        sec_final = float(settlement.secondary_settlement_under_probe(layers_below, sub_ps,
-                                                                      np.array([end]), t95)[0])
-        if t95 >= end:
-            pnotes.append(f"primary consolidation reaches 95 % after the last stage ends "
-                          f"(t95 = {t95:.4g} days): no secondary compression by then.")
-    elif creeping.any():
-        pnotes.append("secondary compression not estimated: the end of primary (t95) is not reached.")
-
-    layer_settlement: dict[str, float] = {}
-    for i, ly in enumerate(col.layers):
-        sel = (ps.layer_index == i) & below
-        if sel.any():
-            layer_settlement[ly.name] = layer_settlement.get(ly.name, 0.0) + float(np.sum(ultimate[sel]))
-    return ProbeEstimate(
-        name=pr.name, x_m=float(pr.x), y_m=float(pr.y), probe_depth_m=float(d),
-        final_settlement_m=imm_final + cons_final + sec_final, immediate_settlement_m=imm_final,
-        consolidation_settlement_m=cons_final, secondary_settlement_m=sec_final,
-        t50_days=t50, t90_days=t90, end_of_primary_days=t95, max_excess_pore_pressure_kPa=u_max,
-        depth_m=ps.mid[below], stress_increase_kPa=ps.delta_sigma_kPa[below],
-        stress_increase_2to1_kPa=np.asarray(final_2to1)[below],
-        initial_effective_stress_kPa=ps.sigma_v0_kPa[below],
-        preconsolidation_pressure_kPa=ps.sigma_p_kPa[below], sublayer_settlement_m=ultimate[below],
-        sublayer_layer=[col.layers[i].name for i in ps.layer_index[below]],
-        layer_settlement_m=layer_settlement, time_days=t_out, settlement_m=imm_t + cons_t + sec_t,
-        consolidation_degree=degree, excess_pore_pressure_kPa=u_probe, notes=pnotes,
-        stages=stage_rows)
-
-
-def _stage_rows(st: history.StagedConsolidation, spans, below, tf, s_fine) -> list[StageEstimate]:
-    """The consolidation settlement below the probe at the end of each stage, the settlement
-    its load would give held for ever, and the degree reached."""
-    rows = []
-    for i, sp in enumerate(spans):
-        s_end = float(np.interp(sp.end, tf, s_fine))
-        ult = st.ultimate_after(i, below)
-        rows.append(StageEstimate(sp.name, sp.kind, sp.start, sp.end, s_end, ult,
-                                  s_end / ult if ult != 0.0 else float("nan")))
-    return rows
-
-
-def _history_notes(st, spans, below, rows, pnotes) -> None:
-    """Say where the load is reduced: the degree reached before it and the rebound."""
-    for k, inc in enumerate(st.increments):
-        i = int(inc.stage)
-        if k == 0 or not np.sum(inc.stress_change_kPa[below]) < 0.0:
-            continue
-        prev = rows[i - 1] if i > 0 else None
-        if prev is None or prev.ultimate_m == 0.0:
-            continue
-        after = float(np.sum(st.ultimate_m[k][below]))
-        pnotes.append(f"stage {spans[i].name!r} reduces the load after a degree of consolidation "
-                      f"of {prev.degree:.0%} ({prev.settlement_m:.4f} m of {prev.ultimate_m:.4f} m): "
-                      f"the ultimate becomes {after:.4f} m, the soil rebounding on the "
-                      "recompression line (Cr) from the effective stress it had reached.")
 
 
 def _differential(probes: dict[str, ProbeEstimate], model: Model, notes: list[str]

@@ -4,7 +4,8 @@
 Modified Cam Clay lambda and kappa; elastic moduli as the last resort) into the keyword
 arguments of :class:`solver.hand.settlement.Layer`, with a note for every conversion;
 :func:`build_column` gives the hand layers under one x (sloping layers at their local
-thickness), split at the probe depths, with each one's undrained modulus; :func:`free_draining`
+thickness), split at the probe depths, with each one's undrained modulus (as given in
+``materials.NAME.undrained``); :func:`free_draining`
 decides which of them drain freely in the time rate. See :mod:`solver.hand.estimate` for the method as a whole.
 
 Units: kN, m, kPa, kN/m3, days, permeability m/day; depth positive downward.
@@ -21,13 +22,13 @@ from numpy.typing import NDArray
 
 from solver.analytic import terzaghi_time_factor
 from solver.errors import InputError
-from solver.initial import LayerColumn, at_rest_coefficient
+from solver.initial import LayerColumn
 from solver.model import Material, Model, base_elevation, domain_extent
 
 from . import parameters, settlement
 
 __all__ = ["FREE_DRAINING_DEGREE", "LayerData", "layer_data", "free_draining", "Column",
-           "layer_faces", "build_column", "elastic_youngs"]
+           "layer_faces", "build_column", "elastic_youngs", "undrained_modulus"]
 
 FREE_DRAINING_DEGREE = 0.99
 """A layer open to a drained boundary is free-draining in the time rate when its own degree
@@ -255,7 +256,7 @@ class Column:
     data: list[LayerData]          # per hand layer
     tops: NDArray[np.float64]       # (n + 1,) depths of the layer faces, m
     free: NDArray[np.bool_]         # (n,) free-draining in the time rate (see free_draining)
-    eu: NDArray[np.float64]         # (n,) undrained modulus, kPa (NaN: unknown)
+    eu: NDArray[np.float64]         # (n,) undrained modulus E_u, kPa (NaN: not given)
 
 
 def layer_faces(model: Model, x: float, n_layers: int) -> NDArray[np.float64]:
@@ -293,21 +294,19 @@ def build_column(model: Model, data: list[LayerData], x: float, split: Sequence[
         raise InputError("the hand method needs layers with thickness under the probes",
                          field="layers", source=model.source, fix="give [[layers]] with thickness.")
     tops_a = np.array(tops)
-    gw = model.water.unit_weight
-    mid = 0.5 * (tops_a[:-1] + tops_a[1:])
-    s0 = settlement.vertical_effective_stress(mid, layers, model.water.table_depth, gw)
-    eu = np.full(len(layers), np.nan)
-    for i, d in enumerate(datas):
-        m = d.material
-        e = elastic_youngs(m)
-        if e is None and m.model == "modified cam clay" and m.kappa and m.void_ratio:
-            # E' from the swelling line at the mid-depth mean effective stress (Schofield &
-            # Wroth 1968: K = (1 + e0) p' / kappa), E' = 3 K (1 - 2 nu)
-            p0 = max(float(s0[i]), 1e-6) * (1.0 + 2.0 * at_rest_coefficient(m)) / 3.0
-            e = 3.0 * (1.0 + m.void_ratio) * p0 / m.kappa * (1.0 - 2.0 * m.poisson_ratio)
-        if e is not None:
-            eu[i] = 1.5 * e / (1.0 + m.poisson_ratio)
+    eu = np.array([undrained_modulus(d.material) for d in datas])
     return Column(float(x), layers, datas, tops_a, np.zeros(len(layers), dtype=bool), eu)
+
+
+def undrained_modulus(m: Material) -> float:
+    """E_u (kPa) from ``materials.NAME.undrained``: ``modulus``, or ``strength`` times
+    ``modulus_ratio``; NaN when not given (it is not derived from the drained modulus)."""
+    u = m.undrained
+    if u.modulus is not None:
+        return float(u.modulus)
+    if u.strength is not None and u.modulus_ratio is not None:
+        return float(u.strength) * float(u.modulus_ratio)
+    return float("nan")
 
 
 # ------------------------------------------------------------------ immediate settlement

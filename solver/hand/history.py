@@ -96,26 +96,27 @@ class StagedConsolidation:
     mv_per_increment: NDArray[np.float64]
     increments: list[Increment]
 
-    def settlement_below(self, below: NDArray[np.bool_]) -> NDArray[np.float64]:
-        """Consolidation settlement (nt,) of the sublayers selected by ``below``."""
-        return self.settlement_m[:, below].sum(axis=1)
+    def settlement_below(self, weights: ArrayLike) -> NDArray[np.float64]:
+        """Consolidation settlement (nt,) of the sublayers weighted by ``weights`` (n_sub,):
+        a selection (bool), or factors applied to each sublayer."""
+        return self.settlement_m @ np.asarray(weights, dtype=float)
 
-    def ultimate_at(self, t: NDArray[np.float64], below: NDArray[np.bool_]) -> NDArray[np.float64]:
+    def ultimate_at(self, t: ArrayLike, weights: ArrayLike) -> NDArray[np.float64]:
         """Settlement under the load level in place at times t (the increments started by then:
-        a ramp once it has begun, a sudden one from its start), held for ever, of the selected
+        a ramp once it has begun, a sudden one from its start), held for ever, of the weighted
         sublayers (nt,); 0 before any increment."""
         t = np.asarray(t, dtype=float)
-        tot = np.concatenate([[0.0], self.ultimate_m[:, below].sum(axis=1)])
+        tot = np.concatenate([[0.0], self.ultimate_m @ np.asarray(weights, dtype=float)])
         started = np.zeros(t.shape, dtype=int)
         for inc in self.increments:
             started += (t > inc.start_days) | ((inc.duration_days <= 0.0) & (t >= inc.start_days))
         return tot[started]
 
-    def ultimate_after(self, stage: int, below: NDArray[np.bool_]) -> float:
+    def ultimate_after(self, stage: int, weights: ArrayLike) -> float:
         """Settlement under the load in place after stage ``stage`` (its index; the increments
-        name their stage by index), held for ever, of the selected sublayers."""
+        name their stage by index), held for ever, of the weighted sublayers."""
         k = sum(1 for inc in self.increments if int(inc.stage) <= stage)
-        return float(self.ultimate_m[k - 1, below].sum()) if k else 0.0
+        return float(self.ultimate_m[k - 1] @ np.asarray(weights, dtype=float)) if k else 0.0
 
 
 def path_strain(layer: Layer, sigma_v0: NDArray[np.float64], sigma_p: NDArray[np.float64],

@@ -23,7 +23,8 @@ from solver.model import Model, embankment_profile
 
 from . import stress
 
-__all__ = ["STAIRCASE_STEPS", "Part", "Load", "model_loads", "part_stress", "part_spread",
+__all__ = ["STAIRCASE_STEPS", "Part", "Load", "model_loads", "part_stress",
+           "part_horizontal_stress", "part_spread",
            "within_footing", "on_rigid_base"]
 
 STAIRCASE_STEPS = 40
@@ -203,6 +204,28 @@ def part_stress(p: Part, x: float, z: NDArray[np.float64], axi: bool) -> NDArray
         out = stress.profile_load_stress(x, zc, p.x_nodes, p.q_nodes)[0]
     else:
         out = stress.circle_vertical_stress(abs(x), 0.0, zc, 0.5 * p.width, p.q)
+    return np.where(below, out, 0.0)
+
+
+def part_horizontal_stress(p: Part, x: float, z: NDArray[np.float64], axi: bool
+                           ) -> NDArray[np.float64]:
+    """Horizontal stress increase (kPa) of one part at depths z, in the undrained state
+    (nu = 0.5): sigma_x of strips and profiles (plane strain, Carothers 1920), sigma_r on the
+    axis of a disc (Poulos & Davis 1974); NaN off the axis of a disc (not available); a
+    one-dimensional load gives sigma_x = sigma_z (no lateral strain, nu = 0.5)."""
+    zz = z - p.level
+    below = zz >= -_TOL
+    zc = np.maximum(zz, 0.0)
+    if p.shape == "uniform":
+        out = np.full(z.shape, p.q)
+    elif p.shape == "strip":
+        out = stress.uniform_strip_stress(x, zc, p.width, p.q, p.center)[1]
+    elif p.shape == "profile":
+        out = stress.profile_load_stress(x, zc, p.x_nodes, p.q_nodes)[1]
+    elif abs(x) <= 1e-9:
+        out = stress.circle_centre_stress(zc, 0.5 * p.width, p.q, 0.5)[1]
+    else:
+        out = np.full(z.shape, np.nan)
     return np.where(below, out, 0.0)
 
 

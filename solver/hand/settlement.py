@@ -32,6 +32,7 @@ __all__ = [
     "consolidation_settlement",
     "mv_settlement",
     "secondary_compression_settlement",
+    "skempton_bjerrum_factor",
     "circle_axis_displacement",
     "circle_immediate_settlement",
     "strip_immediate_settlement",
@@ -276,6 +277,29 @@ def secondary_compression_settlement(thickness: ArrayLike, c_alpha: ArrayLike,
         logs = np.where(t > t_p, np.log10(np.where(t > t_p, t, 1.0) / t_p), 0.0)
     return (np.asarray(c_alpha, dtype=float) / (1.0 + np.asarray(void_ratio_end_of_primary, dtype=float))
             * np.asarray(thickness, dtype=float) * logs)
+
+
+def skempton_bjerrum_factor(pore_pressure_parameter: ArrayLike, sigma_z: ArrayLike,
+                            sigma_x: ArrayLike) -> NDArray[np.float64]:
+    """Consolidation over oedometer settlement at points under a load of finite width (-).
+
+    The excess pore pressure set up at loading is ``du = ds3 + A (ds1 - ds3)`` (Skempton 1954,
+    *The pore-pressure coefficients A and B*, Geotechnique 4) and the consolidation settlement
+    ``m_v du dz`` instead of the oedometer's ``m_v ds_z dz``, so each point settles ``du / ds_z``
+    times its oedometer settlement (Skempton & Bjerrum 1957, *A contribution to the settlement
+    analysis of foundations on clay*, Geotechnique 7); on the centre line of a symmetric load
+    ``mu = A + (1 - A) ds_x / ds_z``, and a layer's factor is the oedometer-settlement
+    weighted mean, ``A + (1 - A) alpha``. The vertical and horizontal stress increases are
+    taken as the principal ones (exact on the centre line). Broadcast shape; NaN where
+    ``sigma_z <= 0`` or ``sigma_x`` is NaN.
+    """
+    a = np.asarray(pore_pressure_parameter, dtype=float)
+    sz = np.asarray(sigma_z, dtype=float)
+    sx = np.asarray(sigma_x, dtype=float)
+    s1, s3 = np.maximum(sz, sx), np.minimum(sz, sx)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        mu = (s3 + a * (s1 - s3)) / sz
+    return np.where(sz > 0.0, mu, np.nan)
 
 
 # ------------------------------------------------------- profile under a probe

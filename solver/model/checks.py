@@ -17,7 +17,7 @@ from .rules import (_BERM_RULES, _DRAINAGE_RULES, _EMBANKMENT_RULES, _FOOTING_RU
                     _LAYER_RULES, _LINE_RULES, _LOAD_RULES, _MATERIAL_RULES, _MODEL_RULES,
                     _OEDOMETER_RULES, _OUTPUT_RULES, _POSITIVE_DURATION, _PROBE_RULES,
                     _SECTION_RULES, _STAGE_RULES, _TIME_STEP_RULES, _WATER_RULES, _Rule,
-                    _GRADING_RULES)
+                    _GRADING_RULES, _UNDRAINED_RULES)
 from .plausible import plausibility_warnings
 from .schema import _REL_TOL, Embankment, Grading, Layer, Material, Model
 
@@ -135,6 +135,7 @@ def _check_materials(model: Model) -> None:
         _check_fields(model, m, path, _MATERIAL_RULES)
         oed = _join(path, "oedometer")
         _check_fields(model, m.oedometer, oed, _OEDOMETER_RULES)
+        _check_undrained(model, m, _join(path, "undrained"))
         if m.model == "linear elastic":
             if m.youngs_modulus is None and m.constrained_modulus is None:
                 _fail(model, "a linear elastic material needs a stiffness",
@@ -176,6 +177,22 @@ def _check_materials(model: Model) -> None:
                          f"({', '.join(ways)})", _join(oed, ways[1]),
                   "give one of preconsolidation_pressure, overconsolidation_ratio or "
                   "preconsolidation_margin.")
+
+
+def _check_undrained(model: Model, m: Material, path: str) -> None:
+    """The undrained modulus given one way: E_u, or s_u with E_u / s_u."""
+    u = m.undrained
+    _check_fields(model, u, path, _UNDRAINED_RULES)
+    if u.modulus is not None and (u.strength is not None or u.modulus_ratio is not None):
+        other = "strength" if u.strength is not None else "modulus_ratio"
+        _fail(model, "the undrained modulus is given twice: as modulus and through "
+                     f"{other}", _join(path, other),
+              "give modulus (E_u), or strength (s_u) with modulus_ratio (E_u / s_u), not both.")
+    if (u.strength is None) != (u.modulus_ratio is None):
+        missing = "modulus_ratio" if u.modulus_ratio is None else "strength"
+        _fail(model, f"{'strength' if missing == 'modulus_ratio' else 'modulus_ratio'} is "
+                     f"given without {missing}", _join(path, missing),
+              "give both strength (s_u) and modulus_ratio (E_u / s_u), or modulus (E_u) alone.")
 
 
 def _check_layers(model: Model) -> None:

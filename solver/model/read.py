@@ -13,10 +13,11 @@ from .rules import (_BERM_RULES, _DRAINAGE_RULES, _EMBANKMENT_RULES, _FOOTING_RU
                     _LAYER_RULES, _LINE_RULES, _LOAD_RULES, _MATERIAL_RULES, _MODEL_RULES,
                     _MODEL_TABLES, _OEDOMETER_RULES, _OUTPUT_RULES, _PROBE_RULES,
                     _SECTION_RULES, _STAGE_RULES, _TIME_STEP_RULES, _WATER_RULES, _Rule,
-                    _GRADING_RULES)
+                    _GRADING_RULES, _UNDRAINED_RULES)
 from .schema import (MAX_LIFTS, Berm, Drainage, Embankment, Footing, Grading, Layer,
                      LineProbe,
                      Material, Model, OedometerParameters, Output, PointProbe, Section, Stage,
+                     UndrainedParameters,
                      SurfaceLoad, TimeSteps, Water)
 
 # A TOML table (or a dict) becomes the dataclasses of :mod:`.schema`, quantities with units
@@ -30,7 +31,7 @@ from .schema import (MAX_LIFTS, Berm, Drainage, Embankment, Footing, Grading, La
 def _read_material(r: _Reader, name: str, value: Any) -> Material:
     path = _join("materials", name)
     d = r.table(value, path, 'model = "linear elastic"')
-    vals = r.read(d, path, _MATERIAL_RULES, nested=("oedometer",))
+    vals = r.read(d, path, _MATERIAL_RULES, nested=("oedometer", "undrained"))
     if "permeability" in vals:
         k = vals.pop("permeability")
         for both in ("permeability_x", "permeability_y"):
@@ -43,6 +44,9 @@ def _read_material(r: _Reader, name: str, value: Any) -> Material:
     oed_path = _join(path, "oedometer")
     oed = r.table(d.get("oedometer", {}), oed_path, "compression_index = 0.9")
     vals["oedometer"] = OedometerParameters(**r.read(oed, oed_path, _OEDOMETER_RULES))
+    und_path = _join(path, "undrained")
+    und = r.table(d.get("undrained", {}), und_path, 'modulus = "4 MPa"')
+    vals["undrained"] = UndrainedParameters(**r.read(und, und_path, _UNDRAINED_RULES))
     return Material(name=name, **vals)
 
 

@@ -79,6 +79,19 @@ _OEDOMETER_RULES: dict[str, _Rule] = {
                                       **_NONNEG),
 }
 
+_UNDRAINED_RULES: dict[str, _Rule] = {
+    "modulus": _r("pressure", 'modulus = "4 MPa"', **_POS),
+    "strength": _r("pressure", 'strength = "15 kPa"', **_POS),
+    "modulus_ratio": _r("number", "modulus_ratio = 300", **_POS,
+                        fix="E_u / s_u is positive, commonly some hundreds for soft clays "
+                            "(common practice); e.g. modulus_ratio = 300"),
+    "pore_pressure_parameter": _r(
+        "number", "pore_pressure_parameter = 0.7", low=-0.5, high=1.5, low_open=False,
+        high_open=False,
+        fix="Skempton's A lies between about -0.5 (heavily overconsolidated clay) and 1.5 "
+            "(sensitive clay); e.g. pore_pressure_parameter = 0.7"),
+}
+
 _K_FIX = ("give the permeability (hydraulic conductivity) in m/day or with units, e.g. "
           "permeability = \"1e-9 m/s\"; use a very small value for a nearly impermeable layer")
 _MATERIAL_RULES: dict[str, _Rule] = {

@@ -37,6 +37,21 @@ class OedometerParameters:
 
 
 @dataclass
+class UndrainedParameters:
+    """Undrained (immediate) behaviour for the hand method; every field optional.
+
+    modulus : undrained Young's modulus E_u, kPa; or strength : undrained shear strength s_u,
+    kPa, with modulus_ratio : E_u / s_u (-).
+    pore_pressure_parameter : Skempton's (1954) A, for the Skempton-Bjerrum (1957) correction
+    of the oedometer settlement under a load of finite width.
+    """
+    modulus: float | None = None
+    strength: float | None = None
+    modulus_ratio: float | None = None
+    pore_pressure_parameter: float | None = None
+
+
+@dataclass
 class Material:
     """A soil (or fill) as both the FE and the hand method see it.
 
@@ -49,6 +64,8 @@ class Material:
     Both: permeability_x, permeability_y (m/day), unit_weight (above the water table) and
     saturated_unit_weight (below it), kN/m3; at-rest coefficient k0 or friction_angle
     (K0 = 1 - sin phi', Jaky 1944); biot_coefficient; storage (1/kPa).
+    Hand method only: ``oedometer`` (one-dimensional compressibility) and ``undrained``
+    (the undrained modulus for the immediate settlement, Skempton's A).
     """
     name: str
     model: Literal["linear elastic", "modified cam clay"] = "linear elastic"
@@ -70,6 +87,7 @@ class Material:
     void_ratio: float | None = None
     permeability_change_index: float | None = None
     oedometer: OedometerParameters = field(default_factory=OedometerParameters)
+    undrained: UndrainedParameters = field(default_factory=UndrainedParameters)
 
 
 # ----------------------------------------------------------------------------- ground

@@ -10,7 +10,7 @@ from .rules import (_BERM_RULES, _DRAINAGE_RULES, _EMBANKMENT_RULES, _FOOTING_RU
                     _LAYER_RULES, _LINE_RULES, _LOAD_RULES, _MATERIAL_RULES, _MODEL_RULES,
                     _OEDOMETER_RULES, _OUTPUT_RULES, _PROBE_RULES, _SECTION_RULES,
                     _STAGE_RULES, _TIME_STEP_RULES, _WATER_RULES, _Rule,
-                    _GRADING_RULES)
+                    _GRADING_RULES, _UNDRAINED_RULES)
 from .schema import Grading, Model
 
 def _plain(obj: Any, rules: dict[str, _Rule]) -> dict[str, Any]:
@@ -37,6 +37,9 @@ def model_to_dict(model: Model) -> dict[str, Any]:
         oed = _plain(m.oedometer, _OEDOMETER_RULES)
         if oed:
             md["oedometer"] = oed
+        und = _plain(m.undrained, _UNDRAINED_RULES)
+        if und:
+            md["undrained"] = und
         mats[name] = md
     d["materials"] = mats
     d["layers"] = [_plain(la, _LAYER_RULES) for la in model.layers]
