@@ -18,7 +18,7 @@ import pytest
 from solver import CAUTION, runner, simulation
 from solver.analytic import olson_ramp_average_degree, terzaghi_average_degree
 from solver.errors import InputError
-from solver.hand import rate, settlement, stress
+from solver.hand import load_objects, rate, settlement, stress
 from solver.hand.estimate import disc_displacement, hand_estimate
 from solver.model import (Drainage, Embankment, Footing, Layer, Material, Model, OedometerParameters,
                           PointProbe, Section, Stage, SurfaceLoad, TimeSteps, UndrainedParameters, Water,
@@ -157,7 +157,7 @@ def test_embankment_centre_stress_is_the_osterberg_influence():
     ref = osterberg_centre(p.depth_m, 10.0, 2.0 * 3.0, q)
     np.testing.assert_allclose(p.stress_increase_kPa, ref, rtol=1e-9)
     np.testing.assert_allclose(p.stress_increase_kPa,
-                               stress.EmbankmentLoad(0.0, 10.0, 2.0, 3.0, 20.0).vertical_stress(0.0, p.depth_m),
+                               load_objects.EmbankmentLoad(0.0, 10.0, 2.0, 3.0, 20.0).vertical_stress(0.0, p.depth_m),
                                rtol=1e-12)
     # 2:1 quick check: below the crest the spread of the stacked strips stays under q
     assert np.all(p.stress_increase_2to1_kPa <= q + 1e-9)

@@ -14,7 +14,8 @@ from scipy import integrate
 from solver.errors import InputError
 from solver.hand import parameters as par
 from solver.hand import settlement as se
-from solver.hand.stress import StripLoad, uniform_strip_stress
+from solver.hand.load_objects import StripLoad
+from solver.hand.stress import uniform_strip_stress
 
 # One sublayer: H = 4 m, e0 = 1.2, Cc = 0.45, Cr = 0.05, sigma'_v0 = 50 kPa, delta = 50 kPa,
 # so sigma'_f = 100 kPa and H/(1+e0) = 4/2.2 = 1.818182 m.

@@ -12,6 +12,7 @@ import pytest
 from scipy import integrate
 
 from solver.errors import InputError
+from solver.hand import load_objects as lo
 from solver.hand import stress as st
 
 
@@ -99,13 +100,13 @@ def test_embankment_centreline_matches_osterberg_formula():
     a2 = np.arctan(b / z)
     a1 = np.arctan((a + b) / z) - a2
     expected = 2.0 * gamma * h * ((a + b) / a * (a1 + a2) - b / a * a2) / np.pi
-    load = st.EmbankmentLoad(x_center=0.0, crest_width=2 * b, side_slope=a / h, height=h, unit_weight=gamma)
+    load = lo.EmbankmentLoad(x_center=0.0, crest_width=2 * b, side_slope=a / h, height=h, unit_weight=gamma)
     np.testing.assert_allclose(load.vertical_stress(0.0, z), expected, rtol=1e-12)
 
 
 def test_embankment_under_slope_equals_integrated_boussinesq():
     # Boussinesq (1885) integrated over the trapezoidal pressure.
-    load = st.EmbankmentLoad(x_center=0.0, crest_width=8.0, side_slope=2.0, height=3.0, unit_weight=20.0)
+    load = lo.EmbankmentLoad(x_center=0.0, crest_width=8.0, side_slope=2.0, height=3.0, unit_weight=20.0)
     xn, qn = load.profile().x_nodes, load.profile().q_nodes
     p = lambda xi: np.interp(xi, xn, qn)  # noqa: E731
     for x, z in [(7.0, 2.0), (12.0, 3.0)]:
@@ -119,21 +120,21 @@ def test_berm_profile_is_the_sum_of_its_trapezoids():
     # the main embankment plus the berm strips.
     x = np.linspace(-30, 30, 13)
     z = np.array([[1.0], [5.0], [12.0]])
-    main = st.EmbankmentLoad(0.0, 10.0, 2.0, 4.0, 19.0)
+    main = lo.EmbankmentLoad(0.0, 10.0, 2.0, 4.0, 19.0)
     # berms 2 m thick (38 kPa) from the toe of the upper slope outward, 6 m wide, 2H:1V ends
-    left = st.ProfileLoad((-25.0, -21.0, -15.0, -13.0), (0.0, 38.0, 38.0, 0.0), "left berm")
-    right = st.ProfileLoad((13.0, 15.0, 21.0, 25.0), (0.0, 38.0, 38.0, 0.0), "right berm")
+    left = lo.ProfileLoad((-25.0, -21.0, -15.0, -13.0), (0.0, 38.0, 38.0, 0.0), "left berm")
+    right = lo.ProfileLoad((13.0, 15.0, 21.0, 25.0), (0.0, 38.0, 38.0, 0.0), "right berm")
     # the same ground surface written as one fill surface (heights in m)
     xs = [-25.0, -21.0, -15.0, -13.0, -5.0, 5.0, 13.0, 15.0, 21.0, 25.0]
     hs = [0.0, 2.0, 2.0, 0.0, 4.0, 4.0, 0.0, 2.0, 2.0, 0.0]
-    whole = st.ProfileLoad.from_fill_surface(xs, hs, 19.0)
-    parts = st.superpose([main, left, right], x, z)
+    whole = lo.ProfileLoad.from_fill_surface(xs, hs, 19.0)
+    parts = lo.superpose([main, left, right], x, z)
     np.testing.assert_allclose(whole.vertical_stress(x, z), parts, rtol=1e-12, atol=1e-12)
 
 
 def test_profile_load_surface_stress_equals_fill_pressure():
     # Half-space boundary condition (common practice).
-    load = st.EmbankmentLoad(0.0, 10.0, 2.0, 4.0, 19.0)
+    load = lo.EmbankmentLoad(0.0, 10.0, 2.0, 4.0, 19.0)
     x = np.array([-12.0, -9.0, -5.0, 0.0, 7.0, 20.0])
     np.testing.assert_allclose(load.vertical_stress(x, 0.0),
                                np.interp(x, load.profile().x_nodes, load.profile().q_nodes), atol=1e-9)
@@ -207,7 +208,7 @@ def test_rectangle_vertical_stress_equals_integrated_boussinesq(x, y, z):
 
 def test_rectangle_surface_and_load_object():
     # Half-space boundary condition (common practice); RectangleLoad is the same function.
-    load = st.RectangleLoad(0.0, 0.0, 4.0, 2.0, 100.0)
+    load = lo.RectangleLoad(0.0, 0.0, 4.0, 2.0, 100.0)
     got = load.vertical_stress(np.array([0.0, 2.0, 2.0, 3.0]), 0.0, np.array([0.0, 0.0, 1.0, 0.0]))
     np.testing.assert_allclose(got, [100.0, 50.0, 25.0, 0.0], atol=1e-12)
 
@@ -281,18 +282,18 @@ def test_two_to_one_spread_is_near_the_elastic_average_at_depth():
 
 def test_superpose_adds_loads_of_all_kinds():
     # Superposition (linear elasticity; common practice).
-    loads = [st.StripLoad(0.0, 2.0, 10.0), st.RectangleLoad(1.0, 0.0, 2.0, 2.0, 20.0),
-             st.CircleLoad(-1.0, 0.0, 1.0, 30.0)]
+    loads = [lo.StripLoad(0.0, 2.0, 10.0), lo.RectangleLoad(1.0, 0.0, 2.0, 2.0, 20.0),
+             lo.CircleLoad(-1.0, 0.0, 1.0, 30.0)]
     x, z = np.array([0.0, 1.0, 2.0]), np.array([1.0, 2.0, 3.0])
     expected = sum(load.vertical_stress(x, z, 0.0) for load in loads)
-    np.testing.assert_allclose(st.superpose(loads, x, z), expected)
+    np.testing.assert_allclose(lo.superpose(loads, x, z), expected)
 
 
 def test_invalid_load_names_the_field():
     with pytest.raises(InputError) as err:
-        st.StripLoad(0.0, -2.0, 10.0, name="footing A")
+        lo.StripLoad(0.0, -2.0, 10.0, name="footing A")
     assert err.value.field == "loads.footing A.width"
     with pytest.raises(InputError):
         st.uniform_strip_stress(0.0, -1.0, 2.0, 1.0)
     with pytest.raises(InputError):
-        st.ProfileLoad((0.0, 2.0, 1.0), (0.0, 1.0, 0.0))
+        lo.ProfileLoad((0.0, 2.0, 1.0), (0.0, 1.0, 0.0))

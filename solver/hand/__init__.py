@@ -3,7 +3,8 @@
 Modules (pure functions over numpy arrays; numpy/scipy and :mod:`solver.analytic` only):
 
 - :mod:`solver.hand.stress` - stress increase under strips, embankments (any piecewise-linear
-  section), rectangles and circles in an elastic half-space; 2:1 spread; load objects.
+  section), rectangles and circles in an elastic half-space; 2:1 spread.
+- :mod:`solver.hand.load_objects` - the same loads as objects, and their superposition.
 - :mod:`solver.hand.settlement` - layers, sublayers, initial effective stress, primary
   (Cc/Cr/sigma'_p or mv) and secondary settlement.
 - :mod:`solver.hand.elastic` - immediate (undrained elastic) settlement of circles, discs and

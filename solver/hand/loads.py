@@ -23,7 +23,7 @@ from solver.model import Model, embankment_profile
 
 from . import stress
 
-__all__ = ["STAIRCASE_STEPS", "Part", "Load", "model_loads", "part_stress",
+__all__ = ["STAIRCASE_STEPS", "Part", "Load", "model_loads", "part_stresses", "part_stress",
            "part_horizontal_stress", "part_spread",
            "within_footing", "on_rigid_base"]
 
@@ -191,42 +191,38 @@ def model_loads(model: Model, x_span: tuple[float, float] | None, notes: list[st
 # --------------------------------------------------------------------- part responses
 
 
-def part_stress(p: Part, x: float, z: NDArray[np.float64], axi: bool) -> NDArray[np.float64]:
-    """Vertical stress increase (kPa) of one part at depths z below the original ground."""
+def part_stresses(p: Part, x: float, z: NDArray[np.float64], axi: bool
+                  ) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
+    """Vertical and horizontal stress increase (kPa) of one part at depths z below the
+    original ground. The horizontal one is for the undrained state (nu = 0.5): sigma_x of
+    strips and profiles (plane strain, Carothers 1920), sigma_r on the axis of a disc (Poulos
+    & Davis 1974), NaN off the axis of a disc (not available); a one-dimensional load gives
+    sigma_x = sigma_z (no lateral strain, nu = 0.5)."""
     zz = z - p.level
     below = zz >= -_TOL
     zc = np.maximum(zz, 0.0)
     if p.shape == "uniform":
-        out = np.full(z.shape, p.q)
+        sz = sx = np.full(z.shape, p.q)
     elif p.shape == "strip":
-        out = stress.uniform_strip_stress(x, zc, p.width, p.q, p.center)[0]
+        sz, sx = stress.uniform_strip_stress(x, zc, p.width, p.q, p.center)
     elif p.shape == "profile":
-        out = stress.profile_load_stress(x, zc, p.x_nodes, p.q_nodes)[0]
+        sz, sx = stress.profile_load_stress(x, zc, p.x_nodes, p.q_nodes)
     else:
-        out = stress.circle_vertical_stress(abs(x), 0.0, zc, 0.5 * p.width, p.q)
-    return np.where(below, out, 0.0)
+        sz = stress.circle_vertical_stress(abs(x), 0.0, zc, 0.5 * p.width, p.q)
+        sx = (stress.circle_centre_stress(zc, 0.5 * p.width, p.q, 0.5)[1] if abs(x) <= 1e-9
+              else np.full(z.shape, np.nan))
+    return np.where(below, sz, 0.0), np.where(below, sx, 0.0)
+
+
+def part_stress(p: Part, x: float, z: NDArray[np.float64], axi: bool) -> NDArray[np.float64]:
+    """Vertical stress increase (kPa) of one part at depths z below the original ground."""
+    return part_stresses(p, x, z, axi)[0]
 
 
 def part_horizontal_stress(p: Part, x: float, z: NDArray[np.float64], axi: bool
                            ) -> NDArray[np.float64]:
-    """Horizontal stress increase (kPa) of one part at depths z, in the undrained state
-    (nu = 0.5): sigma_x of strips and profiles (plane strain, Carothers 1920), sigma_r on the
-    axis of a disc (Poulos & Davis 1974); NaN off the axis of a disc (not available); a
-    one-dimensional load gives sigma_x = sigma_z (no lateral strain, nu = 0.5)."""
-    zz = z - p.level
-    below = zz >= -_TOL
-    zc = np.maximum(zz, 0.0)
-    if p.shape == "uniform":
-        out = np.full(z.shape, p.q)
-    elif p.shape == "strip":
-        out = stress.uniform_strip_stress(x, zc, p.width, p.q, p.center)[1]
-    elif p.shape == "profile":
-        out = stress.profile_load_stress(x, zc, p.x_nodes, p.q_nodes)[1]
-    elif abs(x) <= 1e-9:
-        out = stress.circle_centre_stress(zc, 0.5 * p.width, p.q, 0.5)[1]
-    else:
-        out = np.full(z.shape, np.nan)
-    return np.where(below, out, 0.0)
+    """Horizontal stress increase (kPa) of one part, undrained (see :func:`part_stresses`)."""
+    return part_stresses(p, x, z, axi)[1]
 
 
 def part_spread(p: Part, x: float, z: NDArray[np.float64]) -> NDArray[np.float64]:

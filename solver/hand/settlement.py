@@ -423,7 +423,7 @@ def settlement_under_probe(layers: Sequence[Layer],
         Top to bottom; the top of the first layer is the ground surface, z = 0.
     stress_increase : callable or float
         ``f(z) -> delta_sigma`` (kPa) for an array of depths (m), e.g.
-        ``lambda z: superpose(loads, x_probe, z)``; a float is a uniform (1D) load.
+        ``lambda z: superpose(loads, x_probe, z)`` (:mod:`solver.hand.load_objects`); a float is a uniform (1D) load.
     water_table_depth : float
         Depth of the water table (m); negative if free water stands above the ground.
     max_sublayer_thickness : float
