@@ -169,8 +169,11 @@ def _run(args) -> int:
         print(f"warning: no hand-method comparison: {message}", file=sys.stderr)
     else:
         print(format_table(rows))
+    for st in result.info.get("stages", []):
+        if "until_degree" in st:
+            print(f"stage {st['name']!r}: " + until_degree_text(st))
     print(f"results in {out.resolve()}: results.xdmf (ParaView), probes.csv, lines.csv, "
-          f"summary.json, comparison.csv ({result.info['steps']} steps, "
+          f"summary.json, comparison.csv, hand.json ({result.info['steps']} steps, "
           f"{result.info['wall_seconds']:.1f} s)")
     if args.mesh_study:
         from .mesh_study import mesh_study
@@ -205,12 +208,23 @@ def _report(args) -> int:
     return 0
 
 
+def until_degree_text(st: dict) -> str:
+    """Whether and when a stage's ``until_degree`` was reached (the run's stage record)."""
+    target = f"average degree of consolidation {st['until_degree']:.0%}"
+    if st.get("reached"):
+        return f"{target} reached at {st['reached_at_days']:,.1f} days; the stage ended there."
+    deg = st.get("degree_at_end")
+    got = f" ({deg:.0%} at its end)" if deg is not None else ""
+    return f"{target} not reached in its {st['end_days'] - st['start_days']:,.1f} days{got}."
+
+
 def _hand(args) -> int:
-    from .comparison import hand_report
     from .hand.estimate import hand_estimate
+    from .hand_output import hand_json, hand_report
     model = _load(args.model)
     with step("the hand method", args.model, model):
-        print(hand_report(hand_estimate(model)))
+        est = hand_estimate(model)
+        print(json.dumps(hand_json(est), indent=2) if args.json else hand_report(est))
     return 0
 
 
@@ -273,7 +287,8 @@ def build_parser() -> argparse.ArgumentParser:
                     help="times (days) for isochrones, troughs and pictures")
 
     command("report", _report, "one self-contained HTML report of a run", results)
-    command("hand", _hand, "the hand method alone: settlement, t50, t90 per probe", model)
+    h = command("hand", _hand, "the hand method alone: settlement, t50, t90 per probe", model)
+    h.add_argument("--json", action="store_true", help="print the estimate as JSON")
     command("compare", _compare, "hand method against the finite elements of a run", results)
 
     b = command("bench", _bench, "time assembly, factorization and stepping (a benchmark)")

@@ -6,18 +6,22 @@ with the ratio FE / hand and a hint where the ratio departs from 1 by more than
 
 - settlement at the end of the FE record, the hand settlement at that same time (immediate +
   consolidation so far + secondary so far) and the hand's ultimate value;
-- t50 and t90, measured the same way on both curves: the time each settlement curve takes to
-  reach 50 % / 90 % of its own value at the end of the FE record, on the run's clock (days
-  from the start of the first stage), linear between output times. This is the definition of
-  the FE summary (:func:`solver.results.probe_summary`); the hand report's own t50/t90 refer
-  to the consolidation settlement alone;
+- t50 and t90 in their one meaning (:data:`solver.results.T50_T90`): days from the start of
+  the first stage to 50 % / 90 % of the primary settlement; the FE primary settlement is its
+  settlement at the end of the run over the run's average degree of consolidation then, and
+  "not reached by the end of the run" is said when that degree is below 50 % / 90 %;
 - the largest excess pore pressure at the probe (the hand value is the one-dimensional
-  finite-difference solution at the probe depth; none on a drained surface).
+  finite-difference solution at the probe depth; not applicable on a draining surface).
 
-:func:`hand_report` is the text of ``poroplane hand MODEL``; :func:`format_table` and
-:func:`compare_run_dir` that of ``poroplane compare DIR``; :func:`add_comparison` is the step
-``poroplane run`` takes at the end of a run (``DIR/comparison.csv`` and the ``comparison``
-section of ``summary.json``).
+A ratio is given only where it means something: where either value is under
+:data:`NEAR_ZERO` of the largest of that quantity at any probe, or the two signs differ, the
+ratio is left out ("-") and ``notes`` says why. ``notes`` also says when the FE excess pore
+pressure rises above the applied vertical stress increase (the Mandel-Cryer effect).
+
+:func:`format_table` and :func:`compare_run_dir` give the text of ``poroplane compare DIR``;
+:func:`add_comparison` is the step ``poroplane run`` takes at the end of a run
+(``DIR/comparison.csv``, ``DIR/hand.json`` and the ``comparison`` section of
+``summary.json``). The text of ``poroplane hand MODEL`` is :func:`solver.hand_output.hand_report`.
 """
 
 from __future__ import annotations
@@ -34,11 +38,14 @@ import numpy as np
 
 from . import CAUTION
 from .errors import InputError, PoroplaneError
-from .results import time_to_fraction
+from .hand_output import hand_json, hand_report
+from .results import T50_T90, primary_settlement, primary_times
 
 __all__ = [
     "RATIO_TOLERANCE",
+    "NEAR_ZERO",
     "REASONS",
+    "DEFINITIONS",
     "COLUMNS",
     "compare",
     "write_comparison_csv",
@@ -52,6 +59,9 @@ __all__ = [
 RATIO_TOLERANCE = 0.20
 """A ratio FE / hand outside [1 - tol, 1 + tol] gets a hint."""
 
+NEAR_ZERO = 0.05
+"""A value under this fraction of the largest of its quantity at any probe gives no ratio."""
+
 REASONS = ("FE and hand differ mainly through 2D drainage (the FE section also drains "
            "sideways), lateral deformation (the hand method is one-dimensional under the "
            "probe), stress distribution (elastic half-space under the load against the layered "
@@ -59,9 +69,14 @@ REASONS = ("FE and hand differ mainly through 2D drainage (the FE section also d
            "against the FE elastic moduli).")
 """One line on the usual reasons the two answers differ."""
 
-DEFINITIONS = ("t50, t90: time for each settlement curve to reach 50 % / 90 % of its own value "
-               "at the end of the FE record (days from the start of the first stage); ratios "
-               "are FE / hand.")
+DEFINITIONS = (T50_T90 + " Ratios are FE / hand; '-' where a value is under "
+               f"{NEAR_ZERO:.0%} of the largest of its kind at any probe or the signs differ "
+               "(the notes say which).")
+
+MANDEL_CRYER = ("the FE excess pore pressure ({fe:.3g} kPa) rises above the applied vertical "
+                "stress increase here ({load:.3g} kPa): the known two-dimensional effect of "
+                "Mandel (1953) and Cryer (1963) (the drained boundary shrinks first and squeezes "
+                "the water inside), not an error")
 
 COLUMNS = (
     "probe", "x_m", "y_m", "depth_m", "fe_final_time_days",
@@ -71,7 +86,7 @@ COLUMNS = (
     "fe_t90_days", "hand_t90_days", "t90_ratio_fe_to_hand",
     "fe_max_excess_pore_pressure_kPa", "hand_max_excess_pore_pressure_kPa",
     "pore_pressure_ratio_fe_to_hand",
-    "hints",
+    "hints", "notes",
 )
 """Columns of ``comparison.csv``, in order; every quantity names its unit (ratios: -)."""
 
@@ -113,11 +128,21 @@ def _ratio(fe: float | None, hand: float | None) -> float | None:
     return fe / hand
 
 
+def _consolidation(summary: Mapping[str, Any] | None) -> tuple[float | None, float | None]:
+    """(average degree of consolidation at the end, time of the largest excess pore water)
+    of the run, from ``summary.json`` ``run``; (None, None) when not known."""
+    run = (summary or {}).get("run") if isinstance(summary, Mapping) else None
+    if not isinstance(run, Mapping):
+        return None, None
+    return (_num(run.get("average_degree_of_consolidation_at_end")),
+            _num(run.get("largest_excess_pore_water_days")))
 
 
-def _fe_values(arrays: Mapping[str, Any] | None, summary: Mapping[str, Any] | None) -> dict:
-    """FE end time, final settlement, t50, t90, largest excess pore pressure of one probe."""
-    out = {"time": None, "final": None, "t50": None, "t90": None, "umax": None}
+def _fe_values(arrays: Mapping[str, Any] | None, summary: Mapping[str, Any] | None,
+               consolidation: tuple[float | None, float | None]) -> dict:
+    """FE end time, final settlement, t50, t90 (with notes), largest excess pore pressure."""
+    out = {"time": None, "final": None, "t50": None, "t90": None, "t50_note": None,
+           "t90_note": None, "umax": None, "umax_note": None}
     if arrays is not None and "time_days" in arrays and "settlement_m" in arrays:
         t = np.asarray(arrays["time_days"], dtype=float)
         s = np.asarray(arrays["settlement_m"], dtype=float)
@@ -126,11 +151,14 @@ def _fe_values(arrays: Mapping[str, Any] | None, summary: Mapping[str, Any] | No
         t, s = t[ok][order], s[ok][order]
         if t.size:
             out["time"], out["final"] = float(t[-1]), float(s[-1])
-            out["t50"] = time_to_fraction(t, s, s[-1], 0.5)
-            out["t90"] = time_to_fraction(t, s, s[-1], 0.9)
+            times = primary_times(t, s, primary_settlement(t, s, *consolidation))
+            for k in ("t50", "t90"):
+                out[k], out[f"{k}_note"] = times[f"{k}_days"], times[f"{k}_note"]
         u = np.asarray(arrays.get("excess_pore_pressure_kPa", []), dtype=float)
         u = u[np.isfinite(u)]
-        if u.size:
+        if u.size and np.all(np.abs(u) <= 1e-9):
+            out["umax_note"] = "not applicable on a draining boundary"
+        elif u.size:
             out["umax"] = float(u.max())
         return out
     if summary:
@@ -138,7 +166,9 @@ def _fe_values(arrays: Mapping[str, Any] | None, summary: Mapping[str, Any] | No
         out["final"] = _num(summary.get("final_settlement_m"))
         out["t50"] = _num(summary.get("time_to_50_percent_settlement_days"))
         out["t90"] = _num(summary.get("time_to_90_percent_settlement_days"))
+        out["t50_note"], out["t90_note"] = summary.get("t50_note"), summary.get("t90_note")
         out["umax"] = _num(summary.get("largest_excess_pore_pressure_kPa"))
+        out["umax_note"] = summary.get("largest_excess_pore_pressure_note")
     return out
 
 
@@ -146,6 +176,21 @@ def _hint(quantity: str, ratio: float | None) -> str | None:
     if ratio is None or abs(ratio - 1.0) <= RATIO_TOLERANCE:
         return None
     return f"{quantity}: " + _HINTS[(quantity, "high" if ratio > 1.0 else "low")]
+
+
+def _meaningful(quantity: str, fe: float | None, hand: float | None, largest: float,
+                notes: list[str]) -> bool:
+    """Whether FE / hand means something; if not, say why in ``notes``."""
+    if fe is None or hand is None:
+        return False
+    if largest > 0.0 and (abs(fe) < NEAR_ZERO * largest or abs(hand) < NEAR_ZERO * largest):
+        notes.append(f"{quantity}: near zero here (under {NEAR_ZERO:.0%} of the largest at any "
+                     "probe), no ratio")
+        return False
+    if fe * hand < 0.0:
+        notes.append(f"{quantity}: the signs differ (FE {fe:+.3g}, hand {hand:+.3g}), no ratio")
+        return False
+    return True
 
 
 # ============================================================================ rows
@@ -163,51 +208,77 @@ def compare(hand, fe_probes: Mapping[str, Mapping[str, Any]] | None,
         :func:`solver.results.read_probes` (``time_days``, ``settlement_m``,
         ``excess_pore_pressure_kPa``); None to use the summary alone.
     fe_summary : dict, optional
-        ``summary.json`` as a dict (its ``probes`` section is used) or that section itself;
-        used for probes missing from ``fe_probes``.
+        ``summary.json`` as a dict (its ``probes`` section is used, and ``run`` for the
+        average degree of consolidation at the end) or the ``probes`` section itself; used for
+        probes missing from ``fe_probes``.
 
     Returns
     -------
-    list of dict with the keys :data:`COLUMNS`; numbers are floats or None (not computed),
-    ``hints`` a "; "-joined string (empty when every ratio lies within
-    :data:`RATIO_TOLERANCE`).
+    list of dict with the keys :data:`COLUMNS`; numbers are floats or None (not computed or
+    meaningless), ``hints`` and ``notes`` "; "-joined strings.
     """
     summary = fe_summary or {}
+    consolidation = _consolidation(summary)
     if isinstance(summary.get("probes"), Mapping):
         summary = summary["probes"]
     fe_probes = fe_probes or {}
-    rows = []
+    values = []
     for name, p in hand.probes.items():
-        fe = _fe_values(fe_probes.get(name), summary.get(name))
+        fe = _fe_values(fe_probes.get(name), summary.get(name), consolidation)
         t_end = fe["time"] if fe["time"] is not None else float(hand.end_days)
         th = np.asarray(p.time_days, dtype=float)
         sh = np.asarray(p.settlement_m, dtype=float)
-        keep = th <= t_end * (1.0 + 1e-9)
-        hand_end = float(np.interp(t_end, th, sh))
-        th_c = np.unique(np.append(th[keep], t_end))
-        sh_c = np.interp(th_c, th, sh)
-        hand_t50 = time_to_fraction(th_c, sh_c, hand_end, 0.5)
-        hand_t90 = time_to_fraction(th_c, sh_c, hand_end, 0.9)
+        values.append((name, p, fe, t_end, float(np.interp(t_end, th, sh))))
+    largest_s = max((abs(v) for _, _, fe, _, hs in values for v in (fe["final"], hs)
+                     if v is not None), default=0.0)
+    largest_u = max((abs(v) for _, p, fe, _, _ in values
+                     for v in (fe["umax"], _num(p.max_excess_pore_pressure_kPa)) if v is not None),
+                    default=0.0)
+    rows = []
+    for name, p, fe, t_end, hand_end in values:
+        notes: list[str] = []
+        hand_t = {"t50": _num(getattr(p, "t50_days", None)), "t90": _num(getattr(p, "t90_days", None))}
         hand_u = _num(p.max_excess_pore_pressure_kPa)
+        s_ok = _meaningful("settlement", fe["final"], hand_end, largest_s, notes)
         row = {
             "probe": name, "x_m": float(p.x_m), "y_m": float(p.y_m), "depth_m": float(p.probe_depth_m),
             "fe_final_time_days": fe["time"],
             "fe_final_settlement_m": fe["final"], "hand_final_settlement_m": _num(hand_end),
             "hand_ultimate_settlement_m": _num(p.final_settlement_m),
-            "settlement_ratio_fe_to_hand": _ratio(fe["final"], _num(hand_end)),
-            "fe_t50_days": fe["t50"], "hand_t50_days": hand_t50,
-            "t50_ratio_fe_to_hand": _ratio(fe["t50"], hand_t50),
-            "fe_t90_days": fe["t90"], "hand_t90_days": hand_t90,
-            "t90_ratio_fe_to_hand": _ratio(fe["t90"], hand_t90),
+            "settlement_ratio_fe_to_hand": _ratio(fe["final"], hand_end) if s_ok else None,
             "fe_max_excess_pore_pressure_kPa": fe["umax"],
             "hand_max_excess_pore_pressure_kPa": hand_u,
-            "pore_pressure_ratio_fe_to_hand": _ratio(fe["umax"], hand_u),
         }
+        for k in ("t50", "t90"):
+            row[f"fe_{k}_days"], row[f"hand_{k}_days"] = fe[k], hand_t[k]
+            ratio = None
+            if not s_ok and fe["final"] is not None:
+                pass       # the settlement's own note says why
+            elif fe[k] is None and fe[f"{k}_note"] and fe["final"] is not None:
+                notes.append(f"{k} FE: {fe[f'{k}_note']}")
+            elif hand_t[k] is None and getattr(p, f"{k}_note", None):
+                notes.append(f"{k} hand: {getattr(p, f'{k}_note')}")
+            else:
+                ratio = _ratio(fe[k], hand_t[k])
+            if hand_t[k] is not None and fe["time"] is not None and hand_t[k] > fe["time"] * (1 + 1e-9):
+                notes.append(f"{k} hand: after the end of the FE run")
+            row[f"{k}_ratio_fe_to_hand"] = ratio
+        if fe["umax_note"] or (hand_u is None and fe["umax"] is not None and p.probe_depth_m <= 1e-9):
+            notes.append("largest excess pore pressure: not applicable on a draining surface")
+            row["fe_max_excess_pore_pressure_kPa"] = None
+            row["pore_pressure_ratio_fe_to_hand"] = None
+        else:
+            u_ok = _meaningful("excess pore pressure", fe["umax"], hand_u, largest_u, notes)
+            row["pore_pressure_ratio_fe_to_hand"] = _ratio(fe["umax"], hand_u) if u_ok else None
+        load = _num(p.stress_at(p.probe_depth_m)[0]) if hasattr(p, "stress_at") else None
+        if fe["umax"] is not None and load is not None and load > 0.0 and fe["umax"] > 1.01 * load:
+            notes.append(MANDEL_CRYER.format(fe=fe["umax"], load=load))
         hints = [_hint("settlement", row["settlement_ratio_fe_to_hand"]),
                  _hint("t50", row["t50_ratio_fe_to_hand"]),
                  _hint("t90", row["t90_ratio_fe_to_hand"]),
                  _hint("pore pressure", row["pore_pressure_ratio_fe_to_hand"])]
         row["hints"] = "; ".join(h for h in hints if h)
+        row["notes"] = "; ".join(notes)
         rows.append(row)
     return rows
 
@@ -255,7 +326,7 @@ def _f(v: float | None, fmt: str) -> str:
 
 
 def format_table(rows: Sequence[Mapping[str, Any]]) -> str:
-    """The comparison as a fixed-width text table, hints, reasons and the caution."""
+    """The comparison as a fixed-width text table, hints, notes, reasons and the caution."""
     head = ("probe", "settlement FE", "hand", "FE/hand", "t50 FE", "hand", "FE/hand",
             "t90 FE", "hand", "FE/hand", "u max FE", "hand", "FE/hand")
     units = ("", "m", "m", "-", "days", "days", "-", "days", "days", "-", "kPa", "kPa", "-")
@@ -274,75 +345,15 @@ def format_table(rows: Sequence[Mapping[str, Any]]) -> str:
     for row in table:
         lines.append("  ".join(v.ljust(w) if i == 0 else v.rjust(w)
                                for i, (v, w) in enumerate(zip(row, widths))).rstrip())
-    hinted = [r for r in rows if r.get("hints")]
-    if hinted:
-        lines.append("")
-        lines.append(f"Ratios beyond {RATIO_TOLERANCE:.0%}:")
-        for r in hinted:
-            for h in str(r["hints"]).split("; "):
-                lines.append(f"  {r['probe']}: {h}")
+    for key, title in (("hints", f"Ratios beyond {RATIO_TOLERANCE:.0%}:"),
+                       ("notes", "What '-' and some values mean:")):
+        marked = [r for r in rows if r.get(key)]
+        if marked:
+            lines += ["", title]
+            for r in marked:
+                for h in str(r[key]).split("; "):
+                    lines.append(f"  {r['probe']}: {h}")
     lines += ["", DEFINITIONS, REASONS, CAUTION]
-    return "\n".join(lines)
-
-
-def _days(t: float) -> str:
-    if not math.isfinite(t):
-        return "not reached"
-    return f"{t:,.0f} days ({t / 365.25:.2g} years)" if t >= 365.25 else f"{t:,.3g} days"
-
-
-def hand_report(hand) -> str:
-    """The text ``poroplane hand MODEL`` prints: per probe the final settlement split into
-    immediate, consolidation and secondary, t50 and t90, the stress increase used at one depth
-    in each layer, the notes; the differential settlements; the caution line."""
-    lines = [f"Hand estimate: {hand.title} ({hand.analysis})",
-             f"stages end at {_days(hand.end_days)}; settlement positive downward"]
-    for p in hand.probes.values():
-        where = {"in the fill": "in the fill: the estimate is for the ground below it",
-                 "footing base": f"footing base {p.probe_depth_m:g} m deep: settlement of the "
-                                 "soil below it"}.get(p.where, p.where)
-        if p.where == "inside the ground":
-            where = f"{p.probe_depth_m:g} m deep: settlement of the soil below it"
-        lines += ["", f"probe {p.name} (x = {p.x_m:g} m, y = {p.y_m:g} m; {where})"]
-        lines.append(f"  final settlement   {p.final_settlement_m:8.4f} m = immediate "
-                     f"{p.immediate_settlement_m:.4f} + consolidation {p.consolidation_settlement_m:.4f} "
-                     f"+ secondary {p.secondary_settlement_m:.4f} (to {hand.end_days:,.0f} days)")
-        if p.layer_settlement_m:
-            lines.append("  consolidation by layer: " + ", ".join(
-                f"{k} {v:.4f} m" for k, v in p.layer_settlement_m.items()))
-        lines.append(f"  t50 {_days(p.t50_days)}, t90 {_days(p.t90_days)} (of the consolidation "
-                     f"settlement); end of primary t95 {_days(p.end_of_primary_days)}")
-        u = p.max_excess_pore_pressure_kPa
-        lines.append("  largest excess pore pressure at the probe: " +
-                     (f"{u:.4g} kPa" if math.isfinite(u) else "- (drained surface)"))
-        if p.depth_m.size:
-            lines.append("  stress increase used     depth m   half-space kPa   2:1 kPa   sigma'_v0 kPa   layer")
-            names = p.sublayer_layer
-            for name in dict.fromkeys(names):
-                idx = [i for i, n in enumerate(names) if n == name]
-                i = idx[len(idx) // 2]
-                lines.append(f"  {'':22s} {p.depth_m[i]:7.2f}   {p.stress_increase_kPa[i]:14.4g}   "
-                             f"{p.stress_increase_2to1_kPa[i]:7.4g}   {p.initial_effective_stress_kPa[i]:13.4g}"
-                             f"   {name}")
-        for n in p.notes:
-            lines.append(f"  note: {n}")
-    if hand.differential:
-        lines += ["", "Differential settlement of neighbouring probes on the surface or footing bases "
-                      "(limits: Bjerrum 1963, from memory)"]
-        for d in hand.differential:
-            worst = d.max_angular_distortion
-            ratio = f"1/{1 / worst:,.0f}" if worst > 0 else "0"
-            lines.append(f"  {d.probe_a} - {d.probe_b} ({d.distance_m:g} m): final "
-                         f"{d.final_differential_settlement_m:+.4f} m, largest angular distortion "
-                         f"{worst:.3g} ({ratio})")
-            for c in d.checks:
-                state = (f"exceeded from {_days(c.first_exceeded_days)}" if c.exceeded
-                         else "not exceeded")
-                lines.append(f"    1/{1 / c.limit:,.0f} {c.description}: {state}")
-    if hand.notes:
-        lines += ["", "Notes"]
-        lines += [f"  - {n}" for n in hand.notes]
-    lines += ["", hand.caution]
     return "\n".join(lines)
 
 
@@ -379,7 +390,8 @@ def compare_run_dir(out_dir: str | Path) -> str:
 def add_comparison(model, fe_probes: Mapping[str, Mapping[str, Any]], out_dir: str | Path | None = None
                    ) -> tuple[list[dict] | None, str | None]:
     """The comparison step at the end of a run: hand estimate, rows, and (with ``out_dir``)
-    ``out_dir/comparison.csv`` and the ``comparison`` section added to ``out_dir/summary.json``.
+    ``out_dir/comparison.csv``, ``out_dir/hand.json`` (the estimate, :func:`hand_json`) and
+    the ``comparison`` section added to ``out_dir/summary.json``.
 
     The hand method needs parameters the FE run does not (e.g. oedometer data); when it cannot
     be done the run is not affected: returns ``(None, message)`` and records
@@ -391,6 +403,7 @@ def add_comparison(model, fe_probes: Mapping[str, Mapping[str, Any]], out_dir: s
     summary = None
     if summary_path is not None and summary_path.exists():
         summary = json.loads(summary_path.read_text(encoding="utf-8"))
+    hand = None
     try:
         hand = hand_estimate(model)
         rows = compare(hand, fe_probes, summary)
@@ -400,12 +413,18 @@ def add_comparison(model, fe_probes: Mapping[str, Mapping[str, Any]], out_dir: s
         out = Path(out_dir)
         if rows is not None:
             write_comparison_csv(rows, out / "comparison.csv")
+            _write_json(out / "hand.json", hand_json(hand))
         if summary is not None:
             summary["comparison"] = comparison_section(rows) if rows is not None else {"skipped": message}
-            tmp = summary_path.with_name(summary_path.name + ".tmp")
-            tmp.write_text(json.dumps(summary, indent=2, default=_json_default), encoding="utf-8")
-            os.replace(tmp, summary_path)
+            _write_json(summary_path, summary)
     return rows, message
+
+
+def _write_json(path: Path, data) -> None:
+    """Write ``data`` as JSON atomically (a temporary file renamed)."""
+    tmp = path.with_name(path.name + ".tmp")
+    tmp.write_text(json.dumps(data, indent=2, default=_json_default), encoding="utf-8")
+    os.replace(tmp, path)
 
 
 def _json_default(obj):

@@ -161,6 +161,9 @@ def _curve(rec: dict) -> dict[str, np.ndarray] | None:
         if v is not None and np.ndim(v) == 0 and math.isfinite(float(v)):
             out["final_settlement_m"] = np.asarray(float(v))
             break
+    v = rec.get("primary_settlement_m")
+    if v is not None and np.ndim(v) == 0 and math.isfinite(float(v)):
+        out["primary_settlement_m"] = np.asarray(float(v))
     for key in ("consolidation_degree", "average_degree"):
         v = rec.get(key)
         if v is not None and np.ndim(v) == 1 and np.size(v) == t.size:

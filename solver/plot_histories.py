@@ -9,6 +9,7 @@ the stages on its time axis (:func:`solver.plot_style.mark_stages`).
 from __future__ import annotations
 
 import math
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
@@ -110,9 +111,18 @@ def degree_of_consolidation(t: np.ndarray, s: np.ndarray,
     return s / ref
 
 
+def _primary(run: RunData, name: str, last: float) -> float:
+    """The FE primary settlement of a probe (summary.json, the meaning of t50 and t90),
+    else its last settlement."""
+    rec = (run.summary.get("probes") or {}).get(name) or {}
+    v = rec.get("primary_settlement_m")
+    return float(v) if isinstance(v, (int, float)) and math.isfinite(v) else last
+
+
 def plot_degree_time(run: RunData, out: Path) -> list[Path]:
-    """Degree of consolidation from settlement, s(t)/s(end), per probe (log time)."""
-    finals = {n: float(c["settlement_m"][np.isfinite(c["settlement_m"])][-1])
+    """Degree of consolidation from settlement, s(t) over the primary settlement, per probe
+    (log time): the curves cross 50 % and 90 % at t50 and t90 (:data:`solver.results.T50_T90`)."""
+    finals = {n: _primary(run, n, float(c["settlement_m"][np.isfinite(c["settlement_m"])][-1]))
               for n, c in run.probes.items() if np.isfinite(c["settlement_m"]).any()}
     biggest = max((abs(v) for v in finals.values()), default=0.0)
     names, skipped = [], []
@@ -134,14 +144,15 @@ def plot_degree_time(run: RunData, out: Path) -> list[Path]:
     for n in names:
         c = run.probes[n]
         t, s = c["time_days"], c["settlement_m"]
-        u = 100 * degree_of_consolidation(t, s)
+        u = 100 * degree_of_consolidation(t, s, finals[n])
         lowest = min(lowest, float(np.nanmin(u)))
         ax.plot(t, u, color=colour_of[n], lw=1.6, label=n, zorder=3)
         t_all.append(t)
         h = run.hand.get(n)
-        if h is not None and "consolidation_degree" in h:
+        primary = float(h.get("primary_settlement_m", np.nan)) if h is not None else np.nan
+        if h is not None and math.isfinite(primary) and primary > 0.0:
             keep = h["time_days"] > style.EPS_TIME
-            ax.plot(h["time_days"][keep], 100 * h["consolidation_degree"][keep],
+            ax.plot(h["time_days"][keep], 100 * h["settlement_m"][keep] / primary,
                     color=colour_of[n], lw=1.4, ls="--", zorder=3)
             drawn_hand = True
     style.time_axes(ax, np.concatenate(t_all), log=True)
@@ -158,13 +169,14 @@ def plot_degree_time(run: RunData, out: Path) -> list[Path]:
     key = style.style_key(hand=drawn_hand) if drawn_hand else []
     style.legend(ax, h + key, l + [k.get_label() for k in key], "probe")
     fig.suptitle(f"Degree of consolidation from settlement: {run.title}", fontsize=11.5)
-    note = (f"Finite elements: U = s(t) / s(end), the settlement at time t over the settlement "
-            f"at the end of the run, {style.fmt_days(t_end)}, per probe; with staged loading it "
-            f"mixes the growth of the load with consolidation, and is negative while a point "
-            f"heaves.")
+    note = (f"U = s(t) / s_primary, the settlement at time t over its primary value (immediate "
+            f"plus primary consolidation under the final load); the curves cross 50 % and 90 % "
+            f"at t50 and t90. Finite elements: s_primary from the settlement at the end of the "
+            f"run, {style.fmt_days(t_end)}, and the excess pore water still in the soil then "
+            f"(summary.json); with staged loading U mixes the growth of the load with "
+            f"consolidation, and is negative while a point heaves.")
     if drawn_hand:
-        note += (" Hand method (dashed): the degree of consolidation of the soil below the "
-                 "probe under the staged load.")
+        note += (" Hand method (dashed): its settlement over its own primary settlement.")
     if skipped:
         note += (" Not drawn (end settlement small, negative or exceeded earlier in the record, "
                  f"so U says little): {', '.join(skipped)}.")
@@ -172,20 +184,41 @@ def plot_degree_time(run: RunData, out: Path) -> list[Path]:
 
 
 def differential_histories(run: RunData, limits=None) -> list[dict]:
-    """For each pair of neighbouring surface probes: times, differential settlement,
-    angular distortion and the limit checks (:mod:`solver.hand.differential`)."""
-    from .hand.differential import differential_between_probes
+    """For each pair of neighbouring surface probes (:func:`solver.hand.differential.
+    surface_pairs`): times, differential settlement, angular distortion and the checks that
+    fit the pair: building limits (``limits``, default Bjerrum 1963) between neighbouring
+    footing bases and the probes of a named structure, the model's
+    ``limits.differential_settlement`` along the ground."""
+    from .hand.differential import (check_distortion_limits, differential_between_probes,
+                                    surface_pairs)
     surf = surface_probes(run)
+    footing = set()
+    structures = {}
+    ground_limit = {}
+    if run.model is not None:
+        bases = [(f.center - f.width / 2, f.center + f.width / 2, -f.embedment)
+                 for f in (run.model.section.footings or [])]
+        for n, x in surf:
+            y = float(run.probes[n]["y_m"][0])
+            if any(lo - 1e-9 <= x <= hi + 1e-9 and abs(y - yb) < 1e-9 for lo, hi, yb in bases):
+                footing.add(n)
+        structures = {st.name: st.probes for st in getattr(run.model, "structures", [])}
+        lim = getattr(getattr(run.model, "limits", None), "differential_settlement", None)
+        if lim is not None:
+            ground_limit = {"differential settlement over the limit given": lim}
     out = []
-    for (na, xa), (nb, xb) in zip(surf, surf[1:]):
-        if xb - xa <= 1e-9:
-            continue
-        ca, cb = run.probes[na], run.probes[nb]
+    for pr in surface_pairs([(n, x, n in footing) for n, x in surf], structures):
+        ca, cb = run.probes[pr.a], run.probes[pr.b]
         t = ca["time_days"]
         keep = np.concatenate([[True], np.diff(t) > 0])      # zero-length stages repeat t
         hist = differential_between_probes(t[keep], ca["settlement_m"][keep],
-                                           cb["settlement_m"][keep], xb - xa, limits)
-        out.append({"a": na, "b": nb, "distance_m": xb - xa, "history": hist})
+                                           cb["settlement_m"][keep], pr.distance_m,
+                                           limits if pr.kind == "structure" else {})
+        if pr.kind == "ground" and ground_limit:
+            hist = replace(hist, checks=check_distortion_limits(
+                hist.times_days, np.abs(hist.differential_settlement_m), ground_limit))
+        out.append({"a": pr.a, "b": pr.b, "distance_m": pr.distance_m, "history": hist,
+                    "kind": pr.kind, "structure": pr.structure})
     return out
 
 
@@ -196,6 +229,8 @@ def plot_differential(run: RunData, out: Path, limits=None) -> list[Path]:
     if not pairs:
         return []
     limits = DEFAULT_DISTORTION_LIMITS if limits is None else limits
+    if not any(p["kind"] == "structure" for p in pairs):
+        limits = {}          # building limits only where a structure is (footings, [[structures]])
     fig = style.figure(10.5, 8.6)
     ax1, ax2 = fig.subplots(2, 1, sharex=True)
     t_all = np.concatenate([p["history"].times_days for p in pairs])
@@ -203,7 +238,8 @@ def plot_differential(run: RunData, out: Path, limits=None) -> list[Path]:
     seen = [p["history"].angular_distortion for p in pairs]
     for i, p in enumerate(pairs):
         h = p["history"]
-        lab = f"{p['a']} to {p['b']} ({p['distance_m']:g} m apart)"
+        lab = f"{p['a']} to {p['b']} ({p['distance_m']:g} m apart)" + (
+            f", structure {p['structure']}" if p["kind"] == "structure" else "")
         t, ds = style.with_origin(h.times_days, h.differential_settlement_m)
         ax1.plot(t, ds, color=style.colour(i), lw=1.6, label=lab)
         ax2.plot(h.times_days, h.angular_distortion, color=style.colour(i), lw=1.6)
@@ -237,12 +273,13 @@ def plot_differential(run: RunData, out: Path, limits=None) -> list[Path]:
     ax1.set_xlabel("")
     ax1.axhline(0.0, color="#555555", lw=0.8)
     ax1.set_ylabel("differential settlement (m)")
-    ax2.set_ylabel("angular distortion (-, logarithmic scale)")
+    ax2.set_ylabel("angular distortion, slope (-, logarithmic scale)")
     ax2.set_yscale("log")
     seen = np.concatenate(seen)
     seen = seen[np.isfinite(seen) & (seen > 0)]
-    hi = max(float(seen.max()) if seen.size else 0.0, max(limits.values())) * 2.0
-    ax2.set_ylim(min(limits.values()) / 20.0, hi)
+    top = float(seen.max()) if seen.size else 1e-3
+    hi = max(top, max(limits.values(), default=0.0)) * 2.0
+    ax2.set_ylim(min(list(limits.values()) + [top]) / 20.0, hi)
     ax2.grid(True, which="minor", axis="y", color="#f0f0f0", lw=0.4)
     for desc, lim in sorted(limits.items(), key=lambda kv: kv[1]):
         ax2.axhline(lim, color="#b03030", lw=0.9, ls=(0, (5, 3)), zorder=2)
@@ -260,10 +297,15 @@ def plot_differential(run: RunData, out: Path, limits=None) -> list[Path]:
     for p in pairs:
         for chk in p["history"].checks:
             if chk.exceeded:
-                firsts.append(f"{p['a']} to {p['b']} passes 1/{1 / chk.limit:.0f} at "
+                what = (f"1/{1 / chk.limit:.0f}" if p["kind"] == "structure"
+                        else f"{chk.limit:g} m of differential settlement")
+                firsts.append(f"{p['a']} to {p['b']} passes {what} at "
                               f"{chk.first_exceeded_days:,.0f} days")
     note = ("Angular distortion = |difference in settlement| / horizontal distance, rigid tilt "
-            "included. Red dashed lines: limits after Bjerrum (1963), values as recalled, to be "
-            "checked against the paper.")
+            "included." + (" Red dashed lines: building limits after Bjerrum (1963), values as "
+                           "recalled, to be checked against the paper; they apply to the "
+                           "structure pairs only (neighbouring footing bases, [[structures]])."
+                           if limits else " No structure (footings or [[structures]]): no "
+                           "building limits; along the ground the model's [limits] apply."))
     more = ("\nFinite elements: " + "; ".join(firsts) + ".") if firsts else ""
     return _finish(run, fig, out / "differential_settlement.png", note, more)

@@ -387,7 +387,7 @@ def _read_comparison_csv(path: Path) -> list[dict]:
         for r in csv.DictReader(f):
             row: dict[str, Any] = {}
             for k, v in r.items():
-                if k in ("probe", "hints"):
+                if k in ("probe", "hints", "notes"):
                     row[k] = v
                 else:
                     try:
@@ -430,6 +430,9 @@ def _comparison_html(run) -> str:
     body = [[r.get(c) for c in cols] for r in rows]
     out = _table([h for _, h in _COMPARE_HEAD], body, fmt=".4g")
     hints = [(r.get("probe"), h) for r in rows for h in str(r.get("hints") or "").split("; ") if h]
+    notes = [(r.get("probe"), h) for r in rows for h in str(r.get("notes") or "").split("; ") if h]
+    if notes:
+        out += "<h3>What a dash and some values mean</h3>" + _table(("probe", "note"), notes)
     if hints:
         out += "<h3>Where the two differ by more than the tolerance</h3>" + _table(
             ("probe", "what the difference suggests"), hints)
@@ -449,7 +452,8 @@ def _comparison_html(run) -> str:
 
 
 def _differential_html(run) -> str:
-    """Limit checks of the angular distortion: FE and hand side by side."""
+    """Limit checks between neighbouring surface probes, FE and hand side by side: building
+    limits of angular distortion for structure pairs, the model's limits along the ground."""
     try:
         from .plots import differential_histories
         fe = differential_histories(run)
@@ -459,25 +463,39 @@ def _differential_html(run) -> str:
         return ""
     hand = {}
     for d in (getattr(run.hand_estimate, "differential", None) or []):
-        hand[(d.probe_a, d.probe_b)] = d
-    rows = []
+        hand[(d.probe_a, d.probe_b, d.kind)] = d
+    rows = {"structure": [], "ground": []}
     for p in fe:
         h = p["history"]
-        hd = hand.get((p["a"], p["b"]))
+        hd = hand.get((p["a"], p["b"], p["kind"]))
         hchecks = {c.limit: c for c in hd.checks} if hd is not None else {}
         for c in h.checks:
             hc = hchecks.get(c.limit)
-            rows.append([f"{p['a']} to {p['b']}", p["distance_m"], f"1/{1 / c.limit:.0f}",
-                         c.description, c.max_distortion, c.first_exceeded_days,
-                         None if hc is None else hc.max_distortion,
-                         None if hc is None else hc.first_exceeded_days])
-    return ("<h3>Angular distortion against limits</h3>" + _table(
-        ("surface probes", "distance (m)", "limit (-)", "limit after Bjerrum (1963)",
-         "FE largest distortion (-)", "FE first exceeded (day)", "hand largest distortion (-)",
-         "hand first exceeded (day)"), rows, fmt=".4g") +
-        '<p class="note">Dash in "first exceeded": not exceeded within the record. Limit values '
-        "and wording as recalled, to be checked against the paper; rigid tilt is included in "
-        "the distortion.</p>")
+            label = f"1/{1 / c.limit:.0f}" if p["kind"] == "structure" else f"{c.limit:g} m"
+            rows[p["kind"]].append([f"{p['a']} to {p['b']}", p["distance_m"], label,
+                                    c.description, c.max_distortion, c.first_exceeded_days,
+                                    None if hc is None else hc.max_distortion,
+                                    None if hc is None else hc.first_exceeded_days])
+    out = ""
+    if rows["structure"]:
+        out += ("<h3>Angular distortion of structures against building limits</h3>" + _table(
+            ("probes", "distance (m)", "limit (-)", "limit after Bjerrum (1963)",
+             "FE largest (-)", "FE first exceeded (day)", "hand largest (-)",
+             "hand first exceeded (day)"), rows["structure"], fmt=".4g") +
+            '<p class="note">Pairs of neighbouring footing bases and of [[structures]] only. '
+            'Dash in "first exceeded": not exceeded within the record. Limit values and '
+            "wording as recalled, to be checked against the paper; rigid tilt is included in "
+            "the distortion.</p>")
+    if rows["ground"]:
+        out += ("<h3>Differential settlement along the ground against the limit given</h3>" +
+                _table(("probes", "distance (m)", "limit", "check", "FE largest (m)",
+                        "FE first exceeded (day)", "hand largest (m)", "hand first exceeded (day)"),
+                       rows["ground"], fmt=".4g"))
+    if not out:
+        out = ('<p class="note">No limits checked between the surface probes: building limits '
+               "apply to structures only (footings, [[structures]]); along the ground give "
+               "[limits] differential_settlement and change_of_gradient.</p>")
+    return out
 
 
 # ============================================================================= run data

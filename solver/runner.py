@@ -20,6 +20,13 @@ from .model import Model
 from .results import ResultWriter, probe_summary
 from .simulation import PROBE_COLUMNS, Simulation
 
+AVERAGE_DEGREE = ("average degree of consolidation: 1 - W / W_ref, W = the integral of the "
+                  "excess pore pressure over the soil (the excess pore water still to drain); "
+                  "for a stage's until_degree W_ref is W at the start of that stage, for the "
+                  "run at its end W_ref is the largest W of the run (at "
+                  "largest_excess_pore_water_days)")
+"""How the run measures the average degree of consolidation (summary.json says it too)."""
+
 
 @dataclass
 class RunResult:
@@ -78,7 +85,8 @@ class Runner:
                                   run_info={"title": model.title, "version": __version__})
         solver = sim.make_stepper()
         state = State(0.0, np.zeros(pb.disc.n_dofs), pb.disc.n_u)
-        info = {"stage": 0, "stage_step": 0, "stage_starts": [], "step": 0, "p_ref": None}
+        info = {"stage": 0, "stage_step": 0, "stage_starts": [], "step": 0, "p_ref": None,
+                "w_peak": 0.0, "w_now": 0.0, "until": {}}
         hist_t, hist_stage = [], []
         hist = {name: {c: [] for c in PROBE_COLUMNS} for name in sim.probe_names}
         lines = {ln.name: [] for ln in model.lines}
@@ -129,12 +137,19 @@ class Runner:
                     for i, name in enumerate(sim.probe_names):
                         for c in PROBE_COLUMNS:
                             hist[name][c].append(float(vals[c][i]))
-                    degree = None
+                    # the excess pore water of the soil, W = int u dV (the average degree of
+                    # consolidation of the run: 1 - W / the largest W so far)
+                    now = float(sim._pressure_weights @ state.p)
+                    info["w_now"] = now
+                    if now > info.get("w_peak", 0.0):
+                        info["w_peak"], info["t_peak"] = now, state.t
                     if st.until_degree is not None:
                         ref = info["p_ref"]
-                        now = float(sim._pressure_weights @ state.p)
                         degree = 1.0 - now / ref if abs(ref) > 1e-12 else 1.0
-                        last = last or degree >= st.until_degree
+                        reached = degree >= st.until_degree
+                        info.setdefault("until", {})[str(k)] = {
+                            "degree": degree, "time_days": state.t, "reached": bool(reached)}
+                        last = last or reached
                     is_output = last or round(state.t, 9) in output_times or \
                         model.output.every_step
                     if is_output:
@@ -176,19 +191,45 @@ class Runner:
         probes = {n: {"time_days": np.array(hist_t), "stage": np.array(hist_stage, dtype=object),
                       **{c: np.array(v) for c, v in h.items()}}
                   for n, h in hist.items()}
+        degree_end = (1.0 - info.get("w_now", 0.0) / info["w_peak"]
+                      if info.get("w_peak", 0.0) > 1e-12 else None)
         run_info = {"version": __version__, "title": model.title,
                     "elements": sim.mesh.n_elements, "dofs": pb.disc.n_dofs,
                     "steps": info["step"], "factorizations": solver.n_factorizations,
                     **self._newton_info(solver),
+                    "average_degree_of_consolidation_at_end": degree_end,
+                    "largest_excess_pore_water_days": info.get("t_peak"),
+                    "average_degree_definition": AVERAGE_DEGREE,
+                    "stages": self._stage_info(info, hist_t),
                     "wall_seconds": wall, "caution": CAUTION}
         result = RunResult(np.array(hist_t), hist_stage, probes, lines, run_info, self.out_dir)
         if writer is not None:
-            summary = {"run": run_info, "probes": probe_summary(probes)}
+            summary = {"run": run_info,
+                       "probes": probe_summary(probes, degree_end, info.get("t_peak"))}
             writer.write_summary(summary)
             if self.model_text is not None:
                 writer.write_text("model.toml", self.model_text)
             writer.close()
         return result
+
+    def _stage_info(self, info: dict, hist_t: list) -> list[dict]:
+        """Per stage run: its start and end, and for a stage with ``until_degree`` whether the
+        average degree of consolidation reached it, when, and the degree at its end."""
+        model = self.sim.model
+        starts = list(info["stage_starts"])
+        out = []
+        for k, t0 in enumerate(starts):
+            st = model.stages[k]
+            t1 = starts[k + 1] if k + 1 < len(starts) else (float(hist_t[-1]) if hist_t else t0)
+            row = {"name": st.name, "kind": st.kind, "start_days": float(t0), "end_days": float(t1)}
+            if st.until_degree is not None:
+                u = info.get("until", {}).get(str(k), {})
+                row.update({"until_degree": st.until_degree,
+                            "degree_at_end": u.get("degree"),
+                            "reached": bool(u.get("reached", False)),
+                            "reached_at_days": u.get("time_days") if u.get("reached") else None})
+            out.append(row)
+        return out
 
     @staticmethod
     def _newton_info(solver) -> dict:

@@ -20,7 +20,8 @@ from solver.analytic import olson_ramp_average_degree, terzaghi_average_degree
 from solver.errors import InputError
 from solver.hand import load_objects, rate, settlement, stress
 from solver.hand.estimate import disc_displacement, hand_estimate
-from solver.model import (Drainage, Embankment, Footing, Layer, Material, Model, OedometerParameters,
+from solver.model import (Drainage, Embankment, Footing, Layer, Limits, Material, Model,
+                          OedometerParameters, Structure,
                           PointProbe, Section, Stage, SurfaceLoad, TimeSteps, UndrainedParameters, Water,
                           load_model)
 
@@ -216,14 +217,30 @@ def test_lift_history_moves_the_curve():
 
 
 def test_differential_settlement_of_neighbouring_surface_probes():
-    h = hand_estimate(embankment_model())
-    pairs = [(d.probe_a, d.probe_b) for d in h.differential]
-    assert pairs == [("centre", "crest_edge"), ("crest_edge", "toe")]    # sorted by x
+    # Along an embankment: differential settlement and change of gradient, with the user's
+    # limits; building limits (Bjerrum 1963, from memory) only for a structure the user names.
+    m = embankment_model()
+    h = hand_estimate(m)
+    pairs = [(d.probe_a, d.probe_b, d.kind) for d in h.differential]
+    assert pairs == [("centre", "crest_edge", "ground"), ("crest_edge", "toe", "ground")]
+    assert all(d.checks == [] for d in h.differential)          # no limits given
     d = h.differential[1]
     a, b = h.probes["crest_edge"], h.probes["toe"]
     np.testing.assert_allclose(d.angular_distortion, np.abs(a.settlement_m - b.settlement_m) / 6.0)
-    assert [round(1 / c.limit) for c in d.checks] == [500, 300, 150]   # Bjerrum 1963 (from memory)
-    assert d.checks[0].exceeded
+    # change of gradient at crest_edge: slope crest_edge-toe minus slope centre-crest_edge
+    g = h.gradient_changes[0]
+    c = h.probes["centre"]
+    ref = (b.settlement_m - a.settlement_m) / 6.0 - (a.settlement_m - c.settlement_m) / 5.0
+    np.testing.assert_allclose(g.change, ref, atol=1e-12)
+    m.limits = Limits(differential_settlement=0.05, change_of_gradient=0.01)
+    m.structures = [Structure("culvert", ["crest_edge", "toe"])]
+    h = hand_estimate(m)
+    ground = [d for d in h.differential if d.kind == "ground"]
+    assert [c.limit for c in ground[1].checks] == [0.05] and ground[1].checks[0].exceeded
+    assert h.gradient_changes[0].checks[0].limit == 0.01
+    culvert = [d for d in h.differential if d.kind == "structure"]
+    assert [(d.probe_a, d.probe_b, d.structure) for d in culvert] == [("crest_edge", "toe", "culvert")]
+    assert [round(1 / c.limit) for c in culvert[0].checks] == [500, 300, 150]
 
 
 def test_secondary_compression_after_t95_only():
@@ -402,8 +419,9 @@ def test_example_model_estimate_is_complete_and_settles_under_the_embankment():
 
 def test_footing_bases_count_as_surface_probes_for_the_differential():
     h = hand_estimate(load_model("examples/two_footings.toml"))
-    pairs = [(d.probe_a, d.probe_b) for d in h.differential]
-    assert pairs == [("footing_a", "between"), ("between", "footing_b")]
+    pairs = [(d.probe_a, d.probe_b, d.kind) for d in h.differential]
+    assert pairs == [("footing_a", "between", "ground"), ("between", "footing_b", "ground"),
+                     ("footing_a", "footing_b", "structure")]       # the two footings' building
     assert h.probes["footing_b"].where == "footing base"
     assert h.probes["soft_clay_under_b"].where == "inside the ground"
 

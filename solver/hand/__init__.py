@@ -9,8 +9,10 @@ Modules (pure functions over numpy arrays; numpy/scipy and :mod:`solver.analytic
   (Cc/Cr/sigma'_p or mv) and secondary settlement.
 - :mod:`solver.hand.elastic` - immediate (undrained elastic) settlement of circles, discs and
   strips on a half-space or a layer.
-- :mod:`solver.hand.rate` - Terzaghi and Olson rates of one layer; a finite-difference model
-  of a stack of unlike layers.
+- :mod:`solver.hand.terzaghi` - Terzaghi and Olson rates of one layer; the time a sampled
+  curve reaches a level.
+- :mod:`solver.hand.rate` - a finite-difference model of a stack of unlike layers.
+- :mod:`solver.hand.history` - the settlement of a column through a staged load history.
 - :mod:`solver.hand.differential` - differential settlement, angular distortion, limits.
 - :mod:`solver.hand.parameters` - mv, cv, Cc, Cr from other parameters.
 - :mod:`solver.hand.radial` - radial consolidation towards vertical drains: the unit cell,

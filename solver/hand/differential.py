@@ -1,5 +1,12 @@
 """Differential settlement and angular distortion through time, checked against limits.
 
+Which limits fit: the angular distortion limits of buildings (Bjerrum 1963) apply to pairs of
+probes on a structure, i.e. neighbouring footing bases and the probes a user names as a
+structure; along the ground surface (an embankment, the ground beside it) the differential
+settlement of neighbouring probes and the change of gradient from one pair to the next are
+reported, checked against limits the user gives (:func:`surface_pairs`,
+:func:`gradient_change`).
+
 Settlement histories are arrays of shape (nt,) per probe, or (nt, n_points) along a line
 of probes, at increasing times (days); settlement in m, positive downward. Angular
 distortion is the differential settlement over the distance between two points (-).
@@ -27,6 +34,9 @@ __all__ = [
     "DifferentialHistory",
     "check_distortion_limits",
     "differential_between_probes",
+    "SurfacePair",
+    "surface_pairs",
+    "gradient_change",
 ]
 
 BJERRUM_1963_LIMITS: dict[str, float] = {
@@ -218,3 +228,53 @@ def differential_between_probes(times: ArrayLike, settlement_a: ArrayLike, settl
     dist = angular_distortion(sa, sb, distance)
     return DifferentialHistory(t, differential_settlement(sa, sb), dist,
                                check_distortion_limits(t, dist, limits))
+
+
+@dataclass(frozen=True)
+class SurfacePair:
+    """Two neighbouring surface probes ``a`` (smaller x) and ``b``, ``distance_m`` apart.
+
+    ``kind``: "ground" (differential settlement and change of gradient, user limits) or
+    "structure" (angular distortion, building limits); ``structure``: the structure's name
+    ("footings" for neighbouring footing bases), None for ground pairs.
+    """
+    a: str
+    b: str
+    distance_m: float
+    kind: str
+    structure: str | None = None
+
+
+def surface_pairs(points, structures: Mapping[str, list[str]] | None = None) -> list[SurfacePair]:
+    """The pairs of neighbouring surface probes, each with the limits that fit it.
+
+    ``points``: (name, x in m, on a footing base) of the surface probes, any order;
+    ``structures``: structure name -> its probe names. Ground pairs: every two neighbours by
+    x. Structure pairs: neighbouring footing bases (the probes between them left out; the
+    footings of one building, common practice) and the neighbouring probes of each named
+    structure. Probes at the same x make no pair.
+    """
+    pts = sorted(points, key=lambda p: float(p[1]))
+    x = {str(n): float(xx) for n, xx, _ in pts}
+
+    def chain(names: list[str], kind: str, structure: str | None) -> list[SurfacePair]:
+        names = sorted(names, key=lambda n: x[n])
+        return [SurfacePair(a, b, x[b] - x[a], kind, structure)
+                for a, b in zip(names, names[1:]) if x[b] - x[a] > 1e-9]
+
+    out = chain([str(n) for n, _, _ in pts], "ground", None)
+    out += chain([str(n) for n, _, f in pts if f], "structure", "footings")
+    for name, probes in (structures or {}).items():
+        out += chain([p for p in probes if p in x], "structure", str(name))
+    return out
+
+
+def gradient_change(settlement_a: ArrayLike, settlement_b: ArrayLike, settlement_c: ArrayLike,
+                    x_a: float, x_b: float, x_c: float) -> NDArray[np.float64]:
+    """Change of the surface gradient at b: the slope of b-c minus that of a-b (-), slopes
+    ``(s_right - s_left) / distance`` (settlement positive downward), broadcast shape."""
+    sa, sb, sc = (np.asarray(v, dtype=float) for v in (settlement_a, settlement_b, settlement_c))
+    if not (x_a < x_b < x_c):
+        raise InputError("the three probes must lie at increasing x", field="x",
+                         fix="order the probes along the surface")
+    return (sc - sb) / (x_c - x_b) - (sb - sa) / (x_b - x_a)

@@ -102,10 +102,13 @@ and, for every point probe, puts together the pure functions of this package:
    probe, from the start of the first stage); the largest excess pore pressure at the probe's
    depth (probes inside the ground; NaN on a drained surface or in a free-draining layer).
 
-6. **Differential settlement** and angular distortion between consecutive probes on the
-   ground surface (or on a footing base, or in the fill above the ground) sorted by x,
-   checked against Bjerrum (1963) limits
-   (:mod:`solver.hand.differential`).
+6. **Differential settlement** between neighbouring probes on the ground surface (or on a
+   footing base, or in the fill above the ground) sorted by x, with the limits that fit
+   (:func:`solver.hand.differential.surface_pairs`): along the ground (an embankment) the
+   differential settlement and the change of gradient, checked against the user's
+   ``[limits]``; between neighbouring footing bases and the probes of a named
+   ``[[structures]]`` the angular distortion, checked against the building limits of Bjerrum
+   (1963; values from memory).
 
 The final settlement is ``immediate + consolidation (U = 100 %) + secondary to the end of
 the last stage``, and ``ProbeEstimate.how_found`` says how each part was found. The
@@ -134,7 +137,8 @@ from .ground import FREE_DRAINING_DEGREE, build_column, free_draining, layer_dat
 from .loads import (STAIRCASE_STEPS, model_loads, on_rigid_base, part_horizontal_stress,
                     part_spread, part_stress, within_footing)
 from .probe import END_OF_PRIMARY_DEGREE, column_solution, probe_estimate
-from .records import DifferentialEstimate, HandEstimate, ProbeEstimate, StageEstimate
+from .records import (DifferentialEstimate, GradientChange, HandEstimate, ProbeEstimate,
+                      StageEstimate)
 from .stages import default_times, schedule
 
 __all__ = [
@@ -275,29 +279,61 @@ def hand_estimate(model: Model, times=None, max_sublayer_thickness: float | None
                                   spans, final_factor, x, t_out, end, pnotes, axi)
             on_base = any(within_footing(loads[n], x, d)
                           for n in active if n in footing_names)
-            est.where = ("in the fill" if pr.y > _TOL else "ground surface" if d <= _TOL else
-                         "footing base" if on_base else "inside the ground")
+            est.where = ("in the fill" if pr.y > _TOL else "footing base" if on_base else
+                         "ground surface" if d <= _TOL else "inside the ground")
             results[pr.name] = est
     ordered = {pr.name: results[pr.name] for pr in model.probes}
-    diffs = _differential(ordered, model, notes)
-    return HandEstimate(model.title, model.analysis, end, ordered, diffs, notes)
+    diffs, changes = _differential(ordered, model, notes)
+    return HandEstimate(model.title, model.analysis, end, ordered, diffs, notes,
+                        gradient_changes=changes)
 
 
 def _differential(probes: dict[str, ProbeEstimate], model: Model, notes: list[str]
-                  ) -> list[DifferentialEstimate]:
-    """Consecutive probes on the ground surface or on footing bases, sorted by x (Bjerrum
-    1963 limits)."""
-    surf = sorted((p for p in probes.values() if p.on_surface), key=lambda p: p.x_m)
+                  ) -> tuple[list[DifferentialEstimate], list[GradientChange]]:
+    """Neighbouring probes on the ground surface or on footing bases, sorted by x: ground
+    pairs (differential settlement, change of gradient, the user's ``[limits]``) and structure
+    pairs (neighbouring footing bases and ``[[structures]]``: Bjerrum 1963 limits)."""
+    surf = [p for p in probes.values() if p.on_surface]
+    xs = sorted(p.x_m for p in surf)
+    for a, b in zip(xs, xs[1:]):
+        if b - a <= 1e-9:
+            names = [p.name for p in surf if abs(p.x_m - a) <= 1e-9]
+            notes.append(f"surface probes {names} share x = {a:g} m: no differential settlement "
+                         "between them.")
+    pts = [(p.name, p.x_m, p.where == "footing base") for p in surf]
+    pairs = differential.surface_pairs(pts, {s.name: s.probes for s in model.structures})
+    lim = model.limits
+    ground_limit = ({} if lim.differential_settlement is None else
+                    {"differential settlement over the limit given": lim.differential_settlement})
     out = []
-    for a, b in zip(surf, surf[1:]):
-        dist = abs(b.x_m - a.x_m)
-        if dist <= 1e-9:
-            notes.append(f"surface probes {a.name!r} and {b.name!r} share x = {a.x_m:g} m: no "
-                         "angular distortion between them.")
-            continue
+    for pr in pairs:
+        a, b = probes[pr.a], probes[pr.b]
         t = a.time_days
         keep = np.concatenate([[True], np.diff(t) > 0.0])
-        h = differential.differential_between_probes(t[keep], a.settlement_m[keep], b.settlement_m[keep], dist)
-        out.append(DifferentialEstimate(a.name, b.name, dist, h.times_days, h.differential_settlement_m,
-                                        h.angular_distortion, h.checks))
-    return out
+        h = differential.differential_between_probes(
+            t[keep], a.settlement_m[keep], b.settlement_m[keep], pr.distance_m,
+            None if pr.kind == "structure" else {})
+        checks = h.checks
+        if pr.kind == "ground":
+            checks = differential.check_distortion_limits(
+                h.times_days, np.abs(h.differential_settlement_m), ground_limit) if ground_limit else []
+        out.append(DifferentialEstimate(pr.a, pr.b, pr.distance_m, h.times_days,
+                                        h.differential_settlement_m, h.angular_distortion, checks,
+                                        pr.kind, pr.structure))
+    grad_limit = ({} if lim.change_of_gradient is None else
+                  {"change of gradient over the limit given": lim.change_of_gradient})
+    ground = [d for d in out if d.kind == "ground"]
+    changes = []
+    for left, right in zip(ground, ground[1:]):
+        if left.probe_b != right.probe_a:
+            continue
+        pa, pb, pc = probes[left.probe_a], probes[left.probe_b], probes[right.probe_b]
+        t = left.time_days
+        sb = np.interp(t, pb.time_days, pb.settlement_m)
+        sa = np.interp(t, pa.time_days, pa.settlement_m)
+        sc = np.interp(t, pc.time_days, pc.settlement_m)
+        ch = differential.gradient_change(sa, sb, sc, pa.x_m, pb.x_m, pc.x_m)
+        checks = (differential.check_distortion_limits(t, np.abs(ch), grad_limit)
+                  if grad_limit else [])
+        changes.append(GradientChange(pa.name, pb.name, pc.name, t, ch, checks))
+    return out, changes

@@ -129,10 +129,9 @@ def probe_estimate(model, pr, d, col, sol, j, final_2to1, loads, active, pieces,
     level = st.ultimate_at(t_out, w)
     with np.errstate(divide="ignore", invalid="ignore"):
         degree = np.where(np.abs(level) > 0.0, cons_t / np.where(level != 0.0, level, 1.0), 0.0)
-    t50 = t90 = t95 = float("nan")
+    t95 = float("nan")
     if cons_final > 0.0:
-        t50, t90, t95 = (rate.first_time_reaching(tf, s_fine / cons_final, f)
-                         for f in (0.5, 0.9, END_OF_PRIMARY_DEGREE))
+        t95 = rate.first_time_reaching(tf, s_fine / cons_final, END_OF_PRIMARY_DEGREE)
     elif cons_final != 0.0:
         pnotes.append("no consolidation time rate: the load gives no net consolidation below "
                       "the probe.")
@@ -148,9 +147,13 @@ def probe_estimate(model, pr, d, col, sol, j, final_2to1, loads, active, pieces,
     imm_unit = {n: load_immediate_settlement(loads[n], col, x, d, axi) for n in active}
     imm_final = float(sum(final_factor[n] * imm_unit[n] for n in active))
     imm_t = np.zeros(t_out.size)
+    imm_fine = np.zeros(tf.size)
     for p in pieces:
         imm_t += p.change * imm_unit[p.load] * ramp(t_out, p.start, p.duration)
+        imm_fine += p.change * imm_unit[p.load] * ramp(tf, p.start, p.duration)
     how_imm = _immediate_notes(col, d, loads, active, imm_final, pnotes)
+    # t50, t90: to 50 % / 90 % of the primary settlement (immediate + consolidation)
+    t50, t90, t_notes = _primary_times(tf, imm_fine + s_fine, imm_final + cons_final, end)
 
     # secondary compression below d from t95 to the end of the stages, in the sublayers left
     # normally consolidated by the final load (not those an unloading left overconsolidated;
@@ -211,7 +214,26 @@ def probe_estimate(model, pr, d, col, sol, j, final_2to1, loads, active, pieces,
         sublayer_layer=[col.layers[i].name for i in ps.layer_index[below]],
         layer_settlement_m=layer_settlement, time_days=t_out, settlement_m=imm_t + cons_t + sec_t,
         consolidation_degree=degree, excess_pore_pressure_kPa=u_probe, notes=pnotes,
-        stages=stage_rows, how_found=how, skempton_bjerrum=mu_layers)
+        stages=stage_rows, how_found=how, skempton_bjerrum=mu_layers, t50_note=t_notes[0],
+        t90_note=t_notes[1], primary_settlement_m=imm_final + cons_final,
+        sublayer_top_m=ps.top[below], sublayer_bottom_m=ps.bottom[below])
+
+
+def _primary_times(tf, s_primary, primary, end) -> tuple[float, float, tuple]:
+    """t50 and t90 of the primary settlement curve (days from the start of the first stage)
+    and a note for each: None, "after the stages end" (the final load held) or why missing."""
+    if not primary > 0.0:
+        why = "no primary settlement to measure it against (none, or a heave)"
+        return float("nan"), float("nan"), (why, why)
+    out, notes = [], []
+    for f in (0.5, 0.9):
+        t = rate.first_time_reaching(tf, s_primary / primary, f)
+        out.append(t)
+        notes.append("not reached (the consolidation of the final load is too slow)"
+                     if not np.isfinite(t) else
+                     f"after the stages end ({end:,.0f} days), the final load held"
+                     if t > end * (1.0 + 1e-9) else None)
+    return out[0], out[1], tuple(notes)
 
 
 def _immediate_notes(col, d, loads, active, imm_final, pnotes) -> str:

@@ -17,7 +17,13 @@ from solver.errors import InputError
 
 from . import differential
 
-__all__ = ["StageEstimate", "ProbeEstimate", "DifferentialEstimate", "HandEstimate"]
+__all__ = ["T50_T90", "StageEstimate", "ProbeEstimate", "DifferentialEstimate", "GradientChange",
+           "HandEstimate"]
+
+T50_T90 = ("t50, t90: days from the start of the first stage until the settlement reaches 50 % "
+           "/ 90 % of its primary value, the immediate plus the primary consolidation "
+           "settlement under the final load (secondary compression left out)")
+"""The meaning of t50 and t90 in the hand estimate (the same as the run summary's)."""
 
 
 @dataclass
@@ -42,12 +48,16 @@ class ProbeEstimate:
     Scalars: ``probe_depth_m`` (depth of the probe below the original ground; 0 on the
     surface or in the fill), ``final_settlement_m`` = immediate + consolidation + secondary,
     ``immediate_settlement_m``, ``consolidation_settlement_m`` (primary, U = 100 % under the
-    final load, along the stress path of the stages),
-    ``secondary_settlement_m`` (to the end of the last stage), ``t50_days``, ``t90_days``,
-    ``end_of_primary_days`` (t95), ``max_excess_pore_pressure_kPa`` (NaN on a drained surface).
+    final load, along the stress path of the stages), ``primary_settlement_m`` (immediate +
+    consolidation),
+    ``secondary_settlement_m`` (to the end of the last stage), ``t50_days``, ``t90_days``
+    (days from the start of the first stage to 50 % / 90 % of the primary settlement,
+    :data:`solver.hand.records.T50_T90`; ``t50_note``, ``t90_note`` say when one is after the
+    stages end or missing), ``end_of_primary_days`` (t95 of the consolidation part, where
+    secondary compression starts), ``max_excess_pore_pressure_kPa`` (NaN on a drained surface).
 
     Profile arrays, one value per sublayer below the probe (n_sub,): ``depth_m`` (mid-depth
-    below the original ground), ``stress_increase_kPa`` (half-space, used),
+    below the original ground; ``sublayer_top_m``, ``sublayer_bottom_m`` its faces), ``stress_increase_kPa`` (half-space, used),
     ``stress_increase_2to1_kPa`` (quick check), ``initial_effective_stress_kPa``,
     ``preconsolidation_pressure_kPa`` (NaN for m_v layers), ``sublayer_settlement_m``
     (ultimate, under the final load along the stress path), ``sublayer_layer`` (names).
@@ -92,6 +102,11 @@ class ProbeEstimate:
     stages: list[StageEstimate] = field(default_factory=list)
     how_found: dict[str, str] = field(default_factory=dict)
     skempton_bjerrum: dict[str, float] = field(default_factory=dict)
+    t50_note: str | None = None
+    t90_note: str | None = None
+    primary_settlement_m: float = float("nan")
+    sublayer_top_m: NDArray[np.float64] = field(default_factory=lambda: np.zeros(0))
+    sublayer_bottom_m: NDArray[np.float64] = field(default_factory=lambda: np.zeros(0))
 
     @property
     def on_surface(self) -> bool:
@@ -116,8 +131,12 @@ class DifferentialEstimate:
     """Differential settlement of two neighbouring surface probes through time.
 
     ``differential_settlement_m`` = settlement of ``probe_a`` minus that of ``probe_b``;
-    ``angular_distortion`` = its absolute value over ``distance_m``; ``checks`` against the
-    Bjerrum (1963) limits of :data:`solver.hand.differential.DEFAULT_DISTORTION_LIMITS`.
+    ``angular_distortion`` = its absolute value over ``distance_m``. ``kind`` "structure"
+    (neighbouring footing bases, or probes the user names as a structure, ``structure`` its
+    name): ``checks`` against the building limits of angular distortion (Bjerrum 1963;
+    :data:`solver.hand.differential.DEFAULT_DISTORTION_LIMITS`). ``kind`` "ground" (along an
+    embankment or the ground): ``checks`` against the user's ``limits.differential_settlement``
+    (none when not given).
     """
     probe_a: str
     probe_b: str
@@ -126,6 +145,8 @@ class DifferentialEstimate:
     differential_settlement_m: NDArray[np.float64]
     angular_distortion: NDArray[np.float64]
     checks: list[differential.LimitCheck]
+    kind: str = "structure"
+    structure: str | None = None
 
     @property
     def final_differential_settlement_m(self) -> float:
@@ -135,12 +156,35 @@ class DifferentialEstimate:
     def max_angular_distortion(self) -> float:
         return float(np.max(self.angular_distortion))
 
+    @property
+    def max_differential_settlement_m(self) -> float:
+        """The largest |differential settlement| through time (m)."""
+        return float(np.max(np.abs(self.differential_settlement_m)))
+
+
+@dataclass
+class GradientChange:
+    """The change of the surface gradient at ``probe_b`` between the ground pairs
+    ``probe_a``-``probe_b`` and ``probe_b``-``probe_c`` (-, slope of the right pair minus that
+    of the left), through time, with ``checks`` against ``limits.change_of_gradient``."""
+    probe_a: str
+    probe_b: str
+    probe_c: str
+    time_days: NDArray[np.float64]
+    change: NDArray[np.float64]
+    checks: list[differential.LimitCheck]
+
+    @property
+    def max_change(self) -> float:
+        return float(np.max(np.abs(self.change)))
+
 
 @dataclass
 class HandEstimate:
     """The hand estimate of a model: one :class:`ProbeEstimate` per point probe (model order),
-    the differential settlement of neighbouring surface probes, and notes on the model as a
-    whole (parameter conversions, assumptions)."""
+    the differential settlement of neighbouring surface probes (ground pairs and structure
+    pairs), the change of gradient along the ground, and notes on the model as a whole
+    (parameter conversions, assumptions)."""
     title: str
     analysis: str
     end_days: float
@@ -148,6 +192,7 @@ class HandEstimate:
     differential: list[DifferentialEstimate]
     notes: list[str]
     caution: str = CAUTION
+    gradient_changes: list[GradientChange] = field(default_factory=list)
 
     def probe(self, name: str) -> ProbeEstimate:
         if name not in self.probes:

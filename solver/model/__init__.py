@@ -20,8 +20,9 @@ from .domain import (base_elevation, domain_extent, domain_warnings, embankment_
 from .read import load_model, model_from_dict, model_from_toml
 from .schema import (ANALYSES, LINE_KINDS, MATERIAL_MODELS, MAX_ELEMENTS, MAX_LIFTS,
                      SECTION_KINDS, STAGE_KINDS, Berm, Drainage, Embankment, Footing, Grading,
-                     Layer, LineProbe, Material, Model, OedometerParameters, Output, PointProbe,
-                     Section, Stage, SurfaceLoad, TimeSteps, UndrainedParameters, Water)
+                     Layer, Limits, LineProbe, Material, Model, OedometerParameters, Output,
+                     PointProbe, Section, Stage, Structure, SurfaceLoad, TimeSteps,
+                     UndrainedParameters, Water)
 from .write import dump_toml, model_to_dict, toml_dumps
 
 __all__ = [
@@ -29,7 +30,7 @@ __all__ = [
     "STAGE_KINDS", "Berm", "Drainage", "Embankment", "Footing", "Grading", "Layer", "LineProbe",
     "Material", "Model",
     "OedometerParameters", "Output", "PointProbe", "Section", "Stage", "SurfaceLoad",
-    "TimeSteps", "UndrainedParameters", "Water",
+    "TimeSteps", "UndrainedParameters", "Water", "Limits", "Structure",
     "base_elevation", "check_mesh_names", "check_model", "domain_extent", "domain_warnings",
     "dump_toml", "embankment_profile", "ground_surface", "load_model", "loaded_extent",
     "loaded_spans", "model_from_dict", "model_from_toml", "model_to_dict", "model_warnings",

@@ -17,7 +17,7 @@ from .rules import (_BERM_RULES, _DRAINAGE_RULES, _EMBANKMENT_RULES, _FOOTING_RU
                     _LAYER_RULES, _LINE_RULES, _LOAD_RULES, _MATERIAL_RULES, _MODEL_RULES,
                     _OEDOMETER_RULES, _OUTPUT_RULES, _POSITIVE_DURATION, _PROBE_RULES,
                     _SECTION_RULES, _STAGE_RULES, _TIME_STEP_RULES, _WATER_RULES, _Rule,
-                    _GRADING_RULES, _UNDRAINED_RULES)
+                    _GRADING_RULES, _UNDRAINED_RULES, _LIMIT_RULES, _STRUCTURE_RULES)
 from .plausible import plausibility_warnings
 from .schema import _REL_TOL, Embankment, Grading, Layer, Material, Model
 
@@ -560,6 +560,21 @@ def _check_probes(model: Model) -> None:
                 _fail(model, f"end {end} of line {ln.name!r} lies outside the domain: {why}",
                       f"{p}.{'x' if why.startswith('x') else 'y'}{end}", fix)
     _unique(model, [ln.name for ln in model.lines], "lines", "lines")
+    _check_fields(model, model.limits, "limits", _LIMIT_RULES)
+    names = {pr.name for pr in model.probes}
+    for i, st in enumerate(model.structures):
+        p = f"structures[{i + 1}]"
+        _check_fields(model, st, p, _STRUCTURE_RULES)
+        if len(st.probes) < 2:
+            _fail(model, f"structure {st.name!r} names {len(st.probes)} probe(s)", f"{p}.probes",
+                  "name two or more point probes on the surface, e.g. probes = [\"west\", "
+                  "\"east\"].")
+        for j, name in enumerate(st.probes):
+            if name not in names:
+                _fail(model, f"structure {st.name!r} names probe {name!r}, which the model "
+                             "does not have", f"{p}.probes[{j + 1}]",
+                      f"use one of {sorted(names)}.")
+    _unique(model, [st.name for st in model.structures], "structures", "structures")
 
 
 def model_warnings(model: Model) -> list[str]:

@@ -13,11 +13,11 @@ from .rules import (_BERM_RULES, _DRAINAGE_RULES, _EMBANKMENT_RULES, _FOOTING_RU
                     _LAYER_RULES, _LINE_RULES, _LOAD_RULES, _MATERIAL_RULES, _MODEL_RULES,
                     _MODEL_TABLES, _OEDOMETER_RULES, _OUTPUT_RULES, _PROBE_RULES,
                     _SECTION_RULES, _STAGE_RULES, _TIME_STEP_RULES, _WATER_RULES, _Rule,
-                    _GRADING_RULES, _UNDRAINED_RULES)
+                    _GRADING_RULES, _UNDRAINED_RULES, _LIMIT_RULES, _STRUCTURE_RULES)
 from .schema import (MAX_LIFTS, Berm, Drainage, Embankment, Footing, Grading, Layer,
                      LineProbe,
                      Material, Model, OedometerParameters, Output, PointProbe, Section, Stage,
-                     UndrainedParameters,
+                     UndrainedParameters, Limits, Structure,
                      SurfaceLoad, TimeSteps, Water)
 
 # A TOML table (or a dict) becomes the dataclasses of :mod:`.schema`, quantities with units
@@ -202,9 +202,14 @@ def model_from_dict(data: dict, source: str | None = None) -> Model:
                        lambda i, v: f"line_{i + 1}", LineProbe)
     output = Output(**r.read(r.table(data.get("output", {}), "output", "every_step = false"),
                              "output", _OUTPUT_RULES))
+    limits = Limits(**r.read(r.table(data.get("limits", {}), "limits",
+                                     'differential_settlement = "0.1 m"'), "limits", _LIMIT_RULES))
+    structures = _read_list(r, data, "structures", _STRUCTURE_RULES, ("probes",),
+                            lambda i, v: f"structure_{i + 1}", Structure)
     model = Model(**top, materials=materials, layers=layers, section=section, water=water,
                   drainage=drainage, loads=loads, stages=stages, time_steps=time_steps,
-                  probes=probes, lines=lines, output=output, source=source)
+                  probes=probes, lines=lines, output=output, limits=limits,
+                  structures=structures, source=source)
     check_model(model)
     return model
 

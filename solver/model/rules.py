@@ -267,9 +267,21 @@ _OUTPUT_RULES: dict[str, _Rule] = {
     "every_step": _r("bool", "every_step = false"),
 }
 
+_LIMIT_RULES: dict[str, _Rule] = {
+    "differential_settlement": _r("length", 'differential_settlement = "0.1 m"', **_POS),
+    "change_of_gradient": _r("number", "change_of_gradient = 0.005", **_POS,
+                             fix="give the largest change of the surface slope from one pair of "
+                                 "probes to the next, e.g. change_of_gradient = 0.005 (0.5 %)"),
+}
+
+_STRUCTURE_RULES: dict[str, _Rule] = {
+    "name": _r("text", 'name = "pump house"'),
+    "probes": _r("texts", 'probes = ["house_west", "house_east"]'),
+}
+
 _MODEL_RULES: dict[str, _Rule] = {
     "title": _r("text", 'title = "Road embankment (invented site)"'),
     "analysis": _r("choice", 'analysis = "plane strain"', choices=ANALYSES),
 }
 _MODEL_TABLES = ("materials", "layers", "section", "water", "drainage", "loads", "stages",
-                 "time_steps", "probes", "lines", "output")
+                 "time_steps", "probes", "lines", "output", "limits", "structures")

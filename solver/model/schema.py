@@ -294,6 +294,25 @@ class LineProbe:
 
 
 @dataclass
+class Structure:
+    """A structure the user names over surface probes (``probes``, two or more, in any
+    order): the building limits of angular distortion (Bjerrum 1963) apply between its
+    neighbouring probes."""
+    name: str
+    probes: list[str] = field(default_factory=list)
+
+
+@dataclass
+class Limits:
+    """Limits the user sets for the ground surface between neighbouring surface probes (an
+    embankment or the ground beside it): ``differential_settlement`` (m) and
+    ``change_of_gradient`` (-, the change of the surface slope from one pair of probes to the
+    next). None: reported without a check."""
+    differential_settlement: float | None = None
+    change_of_gradient: float | None = None
+
+
+@dataclass
 class Output:
     """times : days at which fields and line probes are written (besides every stage end);
     every_step : write fields at every step (large files)."""
@@ -316,6 +335,8 @@ class Model:
     probes: list[PointProbe] = field(default_factory=list)
     lines: list[LineProbe] = field(default_factory=list)
     output: Output = field(default_factory=Output)
+    limits: Limits = field(default_factory=Limits)
+    structures: list[Structure] = field(default_factory=list)
     source: str | None = None   # file it was read from, for messages
 
 

@@ -46,7 +46,8 @@ from .files import (CHECKPOINT_NAME, FIELDS_DIR, FORMAT, LINE_COLUMNS, LINES_NAM
                     MESH_NAME, PROBE_COLUMNS, PROBES_NAME, RUN_NAME, SUMMARY_NAME, TEXT_COLUMNS,
                     XDMF_NAME, ResultsError, mesh_fingerprint)
 from .read import FieldSeries, field_step_files, read_fields, read_lines, read_probes
-from .summary import probe_summary, time_to_fraction
+from .summary import (NOT_REACHED, T50_T90, primary_settlement, primary_times, probe_summary,
+                      time_to_fraction)
 from .writer import ResultWriter
 
 __all__ = [
@@ -54,6 +55,6 @@ __all__ = [
     "MESH_NAME", "PROBE_COLUMNS", "PROBES_NAME", "RUN_NAME", "SUMMARY_NAME", "TEXT_COLUMNS",
     "XDMF_NAME", "FieldSeries", "ResultWriter", "ResultsError", "field_step_files",
     "mesh_fingerprint", "probe_summary", "read_fields", "read_lines", "read_probes",
-    "time_to_fraction",
+    "time_to_fraction", "T50_T90", "NOT_REACHED", "primary_settlement", "primary_times",
 ]
 

@@ -7,33 +7,85 @@ from typing import Any
 
 import numpy as np
 
+from ..hand.terzaghi import first_time_reaching
+
 def time_to_fraction(t: np.ndarray, s: np.ndarray, final: float | None, fraction: float):
-    """First time the settlement reaches ``fraction`` of ``final``, linearly interpolated."""
+    """First time the settlement reaches ``fraction`` of ``final``: between the two output
+    times that bracket it, a monotone cubic in log time
+    (:func:`solver.hand.terzaghi.first_time_reaching`); None if never (or ``final`` is 0)."""
     if final is None or not math.isfinite(final) or final == 0.0:
         return None
-    r = s / final
-    hit = np.flatnonzero(r >= fraction)
-    if hit.size == 0:
+    hit = first_time_reaching(np.asarray(t, float), np.asarray(s, float) / final, fraction)
+    return None if not math.isfinite(hit) else float(hit)
+
+
+T50_T90 = ("t50, t90: days from the start of the first stage until the settlement reaches 50 % "
+           "/ 90 % of its primary value, the immediate plus the primary consolidation "
+           "settlement under the final load (secondary compression left out). Finite elements: "
+           "the primary value is the settlement at the end of the run plus what the excess "
+           "pore water still in the soil then will give, at the settlement per unit of water "
+           "drained since its largest volume (exact for one-dimensional consolidation; the "
+           "settlement at the end once consolidation is over); 'not reached by the end of the "
+           "run' when the settlement has not got there. Hand method: its own primary "
+           "settlement.")
+"""The one meaning of t50 and t90 (hand, comparison, summary.json, plots, report)."""
+
+NOT_REACHED = "not reached by the end of the run"
+
+
+def primary_settlement(t: np.ndarray, s: np.ndarray, degree_at_end: float | None,
+                       peak_time: float | None) -> float | None:
+    """The primary settlement of a FE record (m), see :data:`T50_T90`.
+
+    ``degree_at_end`` = 1 - W_end / W_peak of the run (W the excess pore water), ``peak_time``
+    when W was largest: the water still in the soil, W_end = W_peak (1 - U) ... gives
+    ``(1 - U) / U`` times the settlement since the peak. None when the record is empty.
+    """
+    if t.size == 0:
         return None
-    i = int(hit[0])
-    if i == 0:
-        return float(t[0])
-    t0, t1, r0, r1 = t[i - 1], t[i], r[i - 1], r[i]
-    return float(t0 + (fraction - r0) / (r1 - r0) * (t1 - t0))
+    final = float(s[-1])
+    if degree_at_end is None or peak_time is None or not 0.0 < degree_at_end < 1.0:
+        return final
+    since = final - float(np.interp(peak_time, t, s))
+    return final + max(since, 0.0) * (1.0 - degree_at_end) / degree_at_end
 
 
-def probe_summary(probes: dict[str, dict[str, np.ndarray]]) -> dict[str, dict[str, Any]]:
-    """Per probe: final settlement, times to 50 % and 90 % of it, largest excess pore pressure.
+def primary_times(t: np.ndarray, s: np.ndarray, primary: float | None) -> dict[str, Any]:
+    """t50 and t90 of a settlement record (see :data:`T50_T90`) with the reason when missing.
+
+    ``primary``: the primary settlement (m) the fractions refer to. Returns ``{"t50_days",
+    "t90_days", "t50_note", "t90_note"}`` (a note is None when the time is given).
+    """
+    out: dict[str, Any] = {}
+    for f in (50, 90):
+        value, note = None, None
+        if primary is None or not math.isfinite(primary) or primary <= 0.0:
+            note = "no primary settlement to measure it against (none, or a heave)"
+        else:
+            value = time_to_fraction(t, s, primary, f / 100.0)
+            if value is None:
+                reached = float(s[-1]) / primary if s.size else 0.0
+                note = f"{NOT_REACHED} ({reached:.0%} of the primary settlement by then)"
+        out[f"t{f}_days"], out[f"t{f}_note"] = value, note
+    return out
+
+
+def probe_summary(probes: dict[str, dict[str, np.ndarray]], degree_at_end: float | None = None,
+                  peak_time: float | None = None) -> dict[str, dict[str, Any]]:
+    """Per probe: final settlement, t50 and t90 (:data:`T50_T90`), largest excess pore pressure.
 
     Times are on the run's clock (days from its time zero), linearly interpolated between
-    output times; None when never reached (or the final settlement is zero). The fractions
-    refer to the final settlement of the record, so the record should run long enough to be
-    near its end value. Rows without a settlement (or pore pressure) are skipped.
+    output times. ``degree_at_end``, ``peak_time``: the run's average degree of consolidation
+    at its end and the time of its largest excess pore water (``summary.json`` ``run``), from
+    which :func:`primary_settlement` follows. A probe whose excess pore pressure is zero throughout sits on a
+    draining boundary: its largest excess pore pressure is not applicable (None, with a note).
+    Rows without a settlement (or pore pressure) are skipped.
 
     Returns
     -------
-    probe -> {"final_time_days", "final_settlement_m", "time_to_50_percent_settlement_days",
-    "time_to_90_percent_settlement_days", "largest_excess_pore_pressure_kPa",
+    probe -> {"final_time_days", "final_settlement_m", "primary_settlement_m",
+    "time_to_50_percent_settlement_days", "time_to_90_percent_settlement_days", "t50_note",
+    "t90_note", "largest_excess_pore_pressure_kPa", "largest_excess_pore_pressure_note",
     "time_of_largest_excess_pore_pressure_days", "stage_of_largest_excess_pore_pressure"}
     """
     out = {}
@@ -48,17 +100,26 @@ def probe_summary(probes: dict[str, dict[str, np.ndarray]]) -> dict[str, dict[st
         ok = np.isfinite(t) & np.isfinite(s)
         ts, ss = t[ok], s[ok]
         final = float(ss[-1]) if ss.size else math.nan
+        primary = primary_settlement(ts, ss, degree_at_end, peak_time)
+        times = primary_times(ts, ss, primary)
         res: dict[str, Any] = {
             "final_time_days": float(ts[-1]) if ts.size else None,
             "final_settlement_m": final if math.isfinite(final) else None,
-            "time_to_50_percent_settlement_days": time_to_fraction(ts, ss, final, 0.5),
-            "time_to_90_percent_settlement_days": time_to_fraction(ts, ss, final, 0.9),
+            "primary_settlement_m": primary,
+            "time_to_50_percent_settlement_days": times["t50_days"],
+            "time_to_90_percent_settlement_days": times["t90_days"],
+            "t50_note": times["t50_note"],
+            "t90_note": times["t90_note"],
             "largest_excess_pore_pressure_kPa": None,
+            "largest_excess_pore_pressure_note": None,
             "time_of_largest_excess_pore_pressure_days": None,
             "stage_of_largest_excess_pore_pressure": None,
         }
         okp = np.isfinite(u) & np.isfinite(t)
-        if okp.any():
+        if okp.any() and np.all(np.abs(u[okp]) <= 1e-9):
+            res["largest_excess_pore_pressure_note"] = ("not applicable: the probe is on a "
+                                                        "draining boundary (u = 0 there)")
+        elif okp.any():
             i = int(np.flatnonzero(okp)[np.argmax(u[okp])])
             res["largest_excess_pore_pressure_kPa"] = float(u[i])
             res["time_of_largest_excess_pore_pressure_days"] = float(t[i])
