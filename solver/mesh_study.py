@@ -243,7 +243,7 @@ def study(model, sim, result, backend=None) -> MeshStudy:
     """Solve ``model`` on the refined mesh of ``sim`` and compare it with ``result``.
 
     ``result``: the run of ``sim``; its run folder (``result.out_dir``) holds the coarse
-    fields, else the coarse run is repeated in a temporary folder for them.
+    fields, else the coarse run is repeated (on the same mesh) in a temporary folder for them.
     """
     from .results import read_fields
     from .runner import run
@@ -251,8 +251,8 @@ def study(model, sim, result, backend=None) -> MeshStudy:
     names = ["excess_pore_pressure_kPa"]
     fine_sim = Simulation(model, mesh=refine(sim.mesh), backend=backend)
     with tempfile.TemporaryDirectory(prefix="poroplane-mesh-study-") as tmp:
-        if result.out_dir is None:
-            result = run(sim, Path(tmp) / "coarse")
+        if result.out_dir is None:     # a Simulation runs once: set the same mesh up again
+            result = run(Simulation(model, mesh=sim.mesh, backend=backend), Path(tmp) / "coarse")
         fine = run(fine_sim, Path(tmp) / "refined")
         coarse_fields = read_fields(result.out_dir, names)
         fine_fields = read_fields(Path(tmp) / "refined", names)

@@ -71,3 +71,18 @@ def test_the_graded_column_is_fine_enough():
     s = column_study(graded=True)
     assert s.fine_enough, s.format()
     assert s.worst(s.pressure).relative < 0.03
+
+
+def test_a_study_of_a_run_kept_in_memory_sets_the_coarse_mesh_up_again():
+    # A Simulation runs once (lifts placed, fill submerged); the study of an in-memory run
+    # repeats it on a fresh set-up of the same mesh. Coarse on purpose: the first lift only.
+    model = load_model(EXAMPLES / "embankment.toml")
+    model.section.mesh_size = 3.0
+    model.section.grading.enabled = False
+    model.stages = model.stages[:1]
+    model.output.times = []
+    sim = Simulation(model)
+    s = study(model, sim, run(sim))
+    assert [r.time_days for r in s.pressure] == [20.0]
+    assert s.pressure[0].scale == pytest.approx(30.0)      # 1.5 m of 20 kN/m3 fill
+    assert {r.line for r in s.settlement} == {ln.name for ln in model.lines}

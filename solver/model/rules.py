@@ -198,7 +198,7 @@ _GRADING_RULES: dict[str, _Rule] = {
                        "min_size = 0.02"),
     "element_budget": _r("int", "element_budget = 10000", low=1.0, low_open=False,
                          fix="give the most triangles the graded mesh may have, e.g. "
-                             "element_budget = 10000, or leave it out (three times the mesh "
+                             "element_budget = 10000, or leave it out (four times the mesh "
                              "without grading, at least 2500)"),
 }
 

@@ -166,7 +166,7 @@ class Grading:
 
     enabled : grade (true) or not; boundary_size : element size at those boundaries, m (None:
     sqrt(c_v x time_steps.first_step) of the slower side); min_size : the finest boundary size,
-    m; element_budget : the most triangles the graded mesh may have (None: three times the
+    m; element_budget : the most triangles the graded mesh may have (None: four times the
     mesh without grading, at least 2500); the boundary sizes grow until it fits.
     """
     enabled: bool = True

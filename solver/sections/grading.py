@@ -16,11 +16,11 @@ an embankment, later drains) gets the boundary size
 with c_v of the slower (softer) side, at least ``section.grading.min_size``, growing away from
 the boundary at :data:`~solver.sections.sizes.GROWTH` m per m. The grading covers the part of
 each boundary that a load reaches: each loaded span widened on each side by the larger of the
-boundary's depth below the loaded surface and half the loaded width. When the whole mesh would
-exceed ``section.grading.element_budget`` triangles (default :data:`BUDGET_FACTOR` times the
-mesh without grading, at least :data:`BUDGET_FLOOR`), every boundary size is enlarged by one common factor until it does
-not. ``section.grading.boundary_size`` sets h_b directly;
-``section.grading.enabled = false`` turns the grading off.
+boundary's depth below the loaded surface and half the loaded width. When the whole mesh
+would exceed ``section.grading.element_budget`` triangles (default :data:`BUDGET_FACTOR`
+times the mesh without grading, at least :data:`BUDGET_FLOOR`), every boundary size is
+enlarged by one common factor until it does not. ``section.grading.boundary_size`` sets h_b
+directly; ``section.grading.enabled = false`` turns the grading off.
 
 c_v of a layer is the finite-element one: k_y M / gamma_w with M the constrained modulus
 E (1 - nu) / ((1 + nu)(1 - 2 nu)) (or the given constrained_modulus), divided by
@@ -41,7 +41,7 @@ from .sizes import GROWTH
 
 CONTRAST = 10.0      # permeability ratio across an interface that makes it a draining one
                      # (common practice: a layer ten times more permeable drains the other)
-BUDGET_FACTOR = 3.0  # default element budget: this many times the mesh without grading,
+BUDGET_FACTOR = 4.0  # default element budget: this many times the mesh without grading,
 BUDGET_FLOOR = 2500  # and at least this many triangles
 
 
