@@ -175,6 +175,9 @@ def _run(args) -> int:
     print(f"results in {out.resolve()}: results.xdmf (ParaView), probes.csv, lines.csv, "
           f"summary.json, comparison.csv, hand.json ({result.info['steps']} steps, "
           f"{result.info['wall_seconds']:.1f} s)")
+    if model.stability is not None:
+        with step("the stability checks", args.model, model, written=done):
+            _stability_table(out)
     if args.mesh_study:
         from .mesh_study import mesh_study
         with step("the mesh study", args.model, model, written=done):
@@ -185,6 +188,22 @@ def _run(args) -> int:
             paths = plot_command(out)
         print(f"{len(paths)} plots and pictures in {(out / 'plots').resolve()}; "
               f"'poroplane report {out}' writes the report")
+    print(CAUTION)
+    return 0
+
+
+def _stability_table(out: Path, times=None) -> None:
+    from .stability.checks import format_checks, read_stability, stability_command
+    checks, warnings = stability_command(out, times=times)
+    print(format_checks(checks, read_stability(out)["required_factor_of_safety"]))
+    for w in warnings:
+        print(f"warning: {w}", file=sys.stderr)
+
+
+def _stability(args) -> int:
+    with step("the stability checks", args.results):
+        _stability_table(Path(args.results), times=args.times)
+    print(f"wrote {(Path(args.results) / 'stability.json').resolve()}")
     print(CAUTION)
     return 0
 
@@ -287,6 +306,10 @@ def build_parser() -> argparse.ArgumentParser:
                     help="times (days) for isochrones, troughs and pictures")
 
     command("report", _report, "one self-contained HTML report of a run", results)
+    sb = command("stability", _stability,
+                 "factor of safety against a slip at stored times of a run", results)
+    sb.add_argument("--times", type=float, nargs="+", metavar="DAYS",
+                    help="stored times (days); default: [stability] times or every stage end")
     h = command("hand", _hand, "the hand method alone: settlement, t50, t90 per probe", model)
     h.add_argument("--json", action="store_true", help="print the estimate as JSON")
     command("compare", _compare, "hand method against the finite elements of a run", results)

@@ -21,7 +21,7 @@ from .read import load_model, model_from_dict, model_from_toml
 from .schema import (ANALYSES, LINE_KINDS, MATERIAL_MODELS, MAX_ELEMENTS, MAX_LIFTS,
                      SECTION_KINDS, STAGE_KINDS, Berm, Drainage, Embankment, Footing, Grading,
                      Layer, Limits, LineProbe, Material, Model, OedometerParameters, Output,
-                     PointProbe, Section, Stage, Structure, SurfaceLoad, TimeSteps,
+                     PointProbe, Section, Stability, Stage, Structure, SurfaceLoad, TimeSteps,
                      UndrainedParameters, Water)
 from .write import dump_toml, model_to_dict, toml_dumps
 
@@ -29,7 +29,7 @@ __all__ = [
     "ANALYSES", "LINE_KINDS", "MATERIAL_MODELS", "MAX_ELEMENTS", "MAX_LIFTS", "SECTION_KINDS",
     "STAGE_KINDS", "Berm", "Drainage", "Embankment", "Footing", "Grading", "Layer", "LineProbe",
     "Material", "Model",
-    "OedometerParameters", "Output", "PointProbe", "Section", "Stage", "SurfaceLoad",
+    "OedometerParameters", "Output", "PointProbe", "Section", "Stability", "Stage", "SurfaceLoad",
     "TimeSteps", "UndrainedParameters", "Water", "Limits", "Structure",
     "base_elevation", "check_mesh_names", "check_model", "domain_extent", "domain_warnings",
     "dump_toml", "embankment_profile", "ground_surface", "load_model", "loaded_extent",

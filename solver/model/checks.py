@@ -16,10 +16,12 @@ from .fields import _join, _key, _Reader, _suggest
 from .rules import (_BERM_RULES, _DRAINAGE_RULES, _EMBANKMENT_RULES, _FOOTING_RULES,
                     _LAYER_RULES, _LINE_RULES, _LOAD_RULES, _MATERIAL_RULES, _MODEL_RULES,
                     _OEDOMETER_RULES, _OUTPUT_RULES, _POSITIVE_DURATION, _PROBE_RULES,
-                    _SECTION_RULES, _STAGE_RULES, _TIME_STEP_RULES, _WATER_RULES, _Rule,
+                    _SECTION_RULES, _STABILITY_RULES, _STAGE_RULES, _TIME_STEP_RULES,
+                    _WATER_RULES, _Rule,
                     _GRADING_RULES, _UNDRAINED_RULES, _LIMIT_RULES, _STRUCTURE_RULES)
 from .plausible import plausibility_warnings
 from .schema import _REL_TOL, Embankment, Grading, Layer, Material, Model
+from .strength import check_strength
 
 def _fail(model: Model, message: str, path: str | None, fix: str) -> None:
     raise InputError(message, field=path, source=model.source, fix=fix)
@@ -114,6 +116,9 @@ def check_model(model: Model) -> None:
                      f"({ts.first_step:g} days)", "time_steps.max_step",
               "make max_step at least first_step, or leave it out (no cap).")
     _check_fields(model, model.output, "output", _OUTPUT_RULES)
+    if model.stability is not None:
+        _check_fields(model, model.stability, "stability", _STABILITY_RULES)
+    check_strength(model)
     # Values that can only be slips, and what is physically impossible (solver.model.bounds):
     # before the probes, whose place a slip in the geometry would make look wrong.
     check_bounds(model)

@@ -12,12 +12,13 @@ from .fields import _join, _Reader
 from .rules import (_BERM_RULES, _DRAINAGE_RULES, _EMBANKMENT_RULES, _FOOTING_RULES,
                     _LAYER_RULES, _LINE_RULES, _LOAD_RULES, _MATERIAL_RULES, _MODEL_RULES,
                     _MODEL_TABLES, _OEDOMETER_RULES, _OUTPUT_RULES, _PROBE_RULES,
-                    _SECTION_RULES, _STAGE_RULES, _TIME_STEP_RULES, _WATER_RULES, _Rule,
+                    _SECTION_RULES, _STABILITY_RULES, _STAGE_RULES, _TIME_STEP_RULES,
+                    _WATER_RULES, _Rule,
                     _GRADING_RULES, _UNDRAINED_RULES, _LIMIT_RULES, _STRUCTURE_RULES)
 from .schema import (MAX_LIFTS, Berm, Drainage, Embankment, Footing, Grading, Layer,
                      LineProbe,
                      Material, Model, OedometerParameters, Output, PointProbe, Section, Stage,
-                     UndrainedParameters, Limits, Structure,
+                     UndrainedParameters, Limits, Structure, Stability,
                      SurfaceLoad, TimeSteps, Water)
 
 # A TOML table (or a dict) becomes the dataclasses of :mod:`.schema`, quantities with units
@@ -206,10 +207,14 @@ def model_from_dict(data: dict, source: str | None = None) -> Model:
                                      'differential_settlement = "0.1 m"'), "limits", _LIMIT_RULES))
     structures = _read_list(r, data, "structures", _STRUCTURE_RULES, ("probes",),
                             lambda i, v: f"structure_{i + 1}", Structure)
+    stability = None
+    if "stability" in data:
+        stab = r.table(data["stability"], "stability", "required_factor_of_safety = 1.3")
+        stability = Stability(**r.read(stab, "stability", _STABILITY_RULES))
     model = Model(**top, materials=materials, layers=layers, section=section, water=water,
                   drainage=drainage, loads=loads, stages=stages, time_steps=time_steps,
                   probes=probes, lines=lines, output=output, limits=limits,
-                  structures=structures, source=source)
+                  structures=structures, stability=stability, source=source)
     check_model(model)
     return model
 

@@ -8,7 +8,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from .schema import ANALYSES, LINE_KINDS, MATERIAL_MODELS, SECTION_KINDS, STAGE_KINDS
+from .schema import (ANALYSES, LINE_KINDS, MATERIAL_MODELS, SECTION_KINDS, STAGE_KINDS,
+                     STRENGTH_KINDS)
 
 
 @dataclass(frozen=True)
@@ -124,6 +125,22 @@ _MATERIAL_RULES: dict[str, _Rule] = {
     "M": _r("number", "M = 1.1", **_POS),
     "void_ratio": _r("number", "void_ratio = 2.0", **_POS),
     "permeability_change_index": _r("number", "permeability_change_index = 0.5", **_POS),
+    # strength, for the stability checks
+    "strength": _r("choice", 'strength = "undrained"', choices=STRENGTH_KINDS),
+    "cohesion": _r("pressure", 'cohesion = "5 kPa"', **_NONNEG,
+                   fix="give the effective cohesion c' in kPa, 0 or more, e.g. "
+                       "cohesion = \"5 kPa\""),
+    "undrained_strength_ratio": _r(
+        "number", "undrained_strength_ratio = 0.22", low=0.0, high=2.0,
+        fix="S = s_u / sigma'_v of the normally consolidated clay, typically 0.2 to 0.3, e.g. "
+            "undrained_strength_ratio = 0.22"),
+    "strength_exponent": _r("number", "strength_exponent = 0.8", low=0.0, high=1.0,
+                            low_open=False, high_open=False,
+                            fix="the exponent m of OCR is typically 0.75 to 0.85, e.g. "
+                                "strength_exponent = 0.8"),
+    "undrained_strength": _r("pressure", 'undrained_strength = "15 kPa"', **_POS),
+    "undrained_strength_gradient": _r("unit_weight", 'undrained_strength_gradient = "1.5 kPa/m"',
+                                      **_NONNEG),
 }
 
 _LAYER_RULES: dict[str, _Rule] = {
@@ -279,9 +296,23 @@ _STRUCTURE_RULES: dict[str, _Rule] = {
     "probes": _r("texts", 'probes = ["house_west", "house_east"]'),
 }
 
+_STABILITY_RULES: dict[str, _Rule] = {
+    "times": _r("list:time", 'times = ["20 days", "100 days"]', **_NONNEG),
+    "required_factor_of_safety": _r(
+        "number", "required_factor_of_safety = 1.3", low=1.0, low_open=False,
+        fix="a required factor of safety is at least 1 (1.3 during construction is common "
+            "practice for some authorities; local codes govern), e.g. "
+            "required_factor_of_safety = 1.3"),
+    "min_depth": _r("length", "min_depth = 0.5", **_POS),
+    "x_limits": _r("list:length", "x_limits = [0.0, 40.0]"),
+    "lowest_tangent": _r("length", "lowest_tangent = -11.5"),
+    "noncircular": _r("bool", "noncircular = false"),
+}
+
 _MODEL_RULES: dict[str, _Rule] = {
     "title": _r("text", 'title = "Road embankment (invented site)"'),
     "analysis": _r("choice", 'analysis = "plane strain"', choices=ANALYSES),
 }
 _MODEL_TABLES = ("materials", "layers", "section", "water", "drainage", "loads", "stages",
-                 "time_steps", "probes", "lines", "output", "limits", "structures")
+                 "time_steps", "probes", "lines", "output", "limits", "structures",
+                 "stability")

@@ -66,6 +66,11 @@ class Material:
     (K0 = 1 - sin phi', Jaky 1944); biot_coefficient; storage (1/kPa).
     Hand method only: ``oedometer`` (one-dimensional compressibility) and ``undrained``
     (the undrained modulus for the immediate settlement, Skempton's A).
+    Strength (stability checks only): strength "drained" uses cohesion c' (kPa) and
+    friction_angle phi' with the pore pressure; "undrained" uses s_u = S OCR^m sigma'_v
+    (undrained_strength_ratio S, strength_exponent m; Ladd and Foott 1974) or the profile
+    undrained_strength + undrained_strength_gradient * depth below the original ground
+    (kPa, kPa/m). None: undrained when S or s_u is given, else drained.
     """
     name: str
     model: Literal["linear elastic", "modified cam clay"] = "linear elastic"
@@ -88,6 +93,13 @@ class Material:
     permeability_change_index: float | None = None
     oedometer: OedometerParameters = field(default_factory=OedometerParameters)
     undrained: UndrainedParameters = field(default_factory=UndrainedParameters)
+    # Strength for the stability checks (docs/model.md, "Strength and [stability]")
+    strength: Literal["drained", "undrained"] | None = None
+    cohesion: float | None = None
+    undrained_strength_ratio: float | None = None
+    strength_exponent: float = 0.8
+    undrained_strength: float | None = None
+    undrained_strength_gradient: float = 0.0
 
 
 # ----------------------------------------------------------------------------- ground
@@ -321,6 +333,26 @@ class Output:
 
 
 @dataclass
+class Stability:
+    """The [stability] table: slip-surface checks through construction.
+
+    times : days at which the factor of safety is found; empty: the end of every stage.
+    required_factor_of_safety : a warning is given below it (1.3 during construction is common
+        practice for some authorities; local codes govern).
+    min_depth : a slip must reach at least this far below the surface, m.
+    x_limits : (left, right) m, the slip lies within them; empty: anywhere on the section.
+    lowest_tangent : the lowest elevation a slip circle may reach, m (None: the model's base).
+    noncircular : also search non-circular surfaces by Spencer's method.
+    """
+    times: list[float] = field(default_factory=list)
+    required_factor_of_safety: float = 1.3
+    min_depth: float = 0.5
+    x_limits: list[float] = field(default_factory=list)
+    lowest_tangent: float | None = None
+    noncircular: bool = False
+
+
+@dataclass
 class Model:
     title: str
     analysis: Literal["plane strain", "axisymmetric"] = "plane strain"
@@ -337,6 +369,7 @@ class Model:
     output: Output = field(default_factory=Output)
     limits: Limits = field(default_factory=Limits)
     structures: list[Structure] = field(default_factory=list)
+    stability: Stability | None = None
     source: str | None = None   # file it was read from, for messages
 
 
@@ -345,6 +378,7 @@ ANALYSES = ("plane strain", "axisymmetric")
 SECTION_KINDS = ("embankment", "footings", "ground", "mesh")
 MATERIAL_MODELS = ("linear elastic", "modified cam clay")
 STAGE_KINDS = ("lift", "load", "consolidate")
+STRENGTH_KINDS = ("drained", "undrained")
 LINE_KINDS = ("surface", "vertical", "line")
 MAX_LIFTS = 100          # more lifts than this is a typo, not a construction sequence
 _REL_TOL = 1e-6          # lifts must sum to the height within this relative tolerance

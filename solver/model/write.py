@@ -9,7 +9,7 @@ from .fields import _key
 from .rules import (_BERM_RULES, _DRAINAGE_RULES, _EMBANKMENT_RULES, _FOOTING_RULES,
                     _LAYER_RULES, _LINE_RULES, _LOAD_RULES, _MATERIAL_RULES, _MODEL_RULES,
                     _OEDOMETER_RULES, _OUTPUT_RULES, _PROBE_RULES, _SECTION_RULES,
-                    _STAGE_RULES, _TIME_STEP_RULES, _WATER_RULES, _Rule,
+                    _STABILITY_RULES, _STAGE_RULES, _TIME_STEP_RULES, _WATER_RULES, _Rule,
                     _GRADING_RULES, _UNDRAINED_RULES, _LIMIT_RULES, _STRUCTURE_RULES)
 from .schema import Grading, Model
 
@@ -69,6 +69,8 @@ def model_to_dict(model: Model) -> dict[str, Any]:
     d["output"] = _plain(model.output, _OUTPUT_RULES)
     d["limits"] = _plain(model.limits, _LIMIT_RULES) or []
     d["structures"] = [_plain(s, _STRUCTURE_RULES) for s in model.structures]
+    if model.stability is not None:
+        d["stability"] = _plain(model.stability, _STABILITY_RULES)
     return {k: v for k, v in d.items() if v != []}
 
 
