@@ -163,20 +163,17 @@ def test_the_factor_rises_as_consolidation_gains_undrained_strength(staged_run, 
     assert "Factor of safety" in capsys.readouterr().out
 
 
-def test_the_search_on_the_demo_section_takes_under_two_seconds(staged_run):
+def test_the_search_on_the_demo_section_takes_under_two_seconds():
     # Performance target: one time of the demo embankment (examples/embankment.toml, its
     # invented strengths) searched in under 2 s; here on a hydrostatic state of its mesh.
+    # Processor time: the test machine is shared, and its wall clock counts the others' work.
     model = model_from_dict(tomllib.loads(EXAMPLE.read_text()))
-    ground = hydrostatic_ground_layers(model)
-    t0 = time.perf_counter()
+    ground = hydrostatic_ground(model)
+    t0 = time.process_time()
     checks = stability_checks(model, ground)
-    seconds = time.perf_counter() - t0
+    seconds = time.process_time() - t0
     assert checks[0]["factor_of_safety"] > 0
     assert seconds < 2.0, seconds
-
-
-def hydrostatic_ground_layers(model: Model) -> RunGround:
-    return hydrostatic_ground(model)
 
 
 def _example_dict():

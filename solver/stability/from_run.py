@@ -126,7 +126,7 @@ def _top_envelope(points, tri, xs):
     return top
 
 
-def slope_soil(ground: RunGround, k: int, spacing: float = 0.1) -> tuple[SlopeSoil, float, dict]:
+def slope_soil(ground: RunGround, k: int, spacing: float = 0.15) -> tuple[SlopeSoil, float, dict]:
     """The SlopeSoil at stored step ``k``, the base elevation and facts for the output.
 
     Raises InputError naming ``materials.NAME.strength`` for a region without a strength.
@@ -251,17 +251,20 @@ def slope_soil(ground: RunGround, k: int, spacing: float = 0.1) -> tuple[SlopeSo
 
     finder = triang.get_trifinder()
 
+    # per triangle the affine map (x, y, 1) -> reference coordinates (xi, eta), once
+    t0_, t1_, t2_ = pts[tri[:, 0]], pts[tri[:, 1]], pts[tri[:, 2]]
+    e1, e2 = t1_ - t0_, t2_ - t0_
+    dt = e1[:, 0] * e2[:, 1] - e1[:, 1] * e2[:, 0]
+    inv = np.stack([np.column_stack([e2[:, 1], -e2[:, 0]]),
+                    np.column_stack([-e1[:, 1], e1[:, 0]])], axis=1) / dt[:, None, None]
+    affine = np.concatenate([inv, -np.einsum("nij,nj->ni", inv, t0_)[:, :, None]], axis=2)
+
     def locate(x, y):
         x = np.abs(x) if half else x
         e = finder(x, y)
-        cc = tri[np.maximum(e, 0)]
-        q0, q1, q2 = pts[cc[:, 0]], pts[cc[:, 1]], pts[cc[:, 2]]
-        e1, e2 = q1 - q0, q2 - q0
-        dq = np.column_stack([x, y]) - q0
-        dt = e1[:, 0] * e2[:, 1] - e1[:, 1] * e2[:, 0]
-        a = (dq[:, 0] * e2[:, 1] - dq[:, 1] * e2[:, 0]) / dt
-        b = (e1[:, 0] * dq[:, 1] - e1[:, 1] * dq[:, 0]) / dt
-        return e, np.column_stack([1 - a - b, a, b])
+        A = affine[np.maximum(e, 0)]
+        ab = A[:, :, 0] * x[:, None] + A[:, :, 1] * y[:, None] + A[:, :, 2]
+        return e, np.column_stack([1 - ab[:, 0] - ab[:, 1], ab])
 
     def strength(x, y):
         """Exact material and interpolated stress at the slice bases (located each call, in
