@@ -1,10 +1,12 @@
-"""The initial (geostatic) state: hydrostatic pore pressure and at-rest effective stresses.
+"""The initial (geostatic) state: the pore pressure at the start and at-rest effective stresses.
 
 The solver works in changes from this state; it enters the outputs (total pore pressure,
 effective stresses), the hand method and stress-dependent materials.
 
-sigma'_v0 = integral of the effective unit weight from the ground surface down (total unit
-weight above the water table, saturated unit weight minus gamma_w below), sigma'_h0 =
+sigma'_v0 = the total vertical stress (the unit weight above the water table, the saturated
+unit weight below it, integrated from the ground surface down) minus the pore pressure at the
+start: hydrostatic below the water table, or steady seepage between piezometric levels, plus
+any initial excess (:mod:`solver.pore_water`); sigma'_h0 =
 K0 sigma'_v0 with K0 = 1 - sin(phi') (Jaky 1944) when a friction angle is given, else the
 elastic at-rest value nu / (1 - nu) (common practice), unless K0 is given.
 
@@ -116,17 +118,21 @@ class LayerColumn:
 
 
 def geostatic_stress(column: LayerColumn, water_table: float, gamma_w: float,
-                     x: np.ndarray, y: np.ndarray) -> dict[str, np.ndarray]:
+                     x: np.ndarray, y: np.ndarray, water=None) -> dict[str, np.ndarray]:
     """Initial state at points (x, y) below the ground surface y = 0.
 
     Parameters
     ----------
     water_table : elevation of the water table, m (y = -depth of the table).
+    water : the initial pore water, ``water(x, y) -> (steady, excess)`` kPa
+        (:class:`solver.pore_water.LayerWater`); None: hydrostatic below the table.
 
     Returns
     -------
-    dict with ``hydrostatic_kPa``, ``vertical_effective_kPa``, ``horizontal_effective_kPa``
-    (in-plane and out-of-plane, equal at rest), compression positive, each (n,).
+    dict with ``steady_pore_pressure_kPa`` (hydrostatic, or steady seepage between
+    piezometric levels), ``initial_excess_kPa``, ``vertical_effective_kPa`` and
+    ``horizontal_effective_kPa`` (in-plane and out-of-plane, equal at rest; both from the
+    real pore pressure), compression positive, each (n,).
     """
     x = np.asarray(x, float)
     y = np.asarray(y, float)
@@ -141,15 +147,18 @@ def geostatic_stress(column: LayerColumn, water_table: float, gamma_w: float,
         sv += np.where(top > bot, m.unit_weight * np.maximum(dry, 0.0)
                        + _saturated(m) * np.maximum(wet, 0.0), 0.0)
     sv += gamma_w * max(water_table, 0.0)                    # free water above the ground
-    u0 = gamma_w * np.maximum(water_table - y, 0.0)
-    sv_eff = sv - u0
+    if water is None:
+        u0, ue = gamma_w * np.maximum(water_table - y, 0.0), np.zeros_like(y)
+    else:
+        u0, ue = water(x, y)
+    sv_eff = sv - u0 - ue
     layer = column.layer_index(x, y)
     sh_eff = np.zeros_like(sv_eff)
     for j, m in enumerate(column.materials):
         here = layer == j
         sh_eff[here] = at_rest_horizontal(m, sv_eff[here])
-    return {"hydrostatic_kPa": u0, "vertical_effective_kPa": sv_eff,
-            "horizontal_effective_kPa": sh_eff}
+    return {"steady_pore_pressure_kPa": u0, "initial_excess_kPa": ue,
+            "vertical_effective_kPa": sv_eff, "horizontal_effective_kPa": sh_eff}
 
 
 class MeshOverburden:
@@ -164,8 +173,10 @@ class MeshOverburden:
     """
 
     def __init__(self, mesh, unit_weights: dict[str, tuple[float, float, object]],
-                 water_table: float, gamma_w: float, columns: int = 120, rows: int = 240):
+                 water_table: float, gamma_w: float, columns: int = 120, rows: int = 240,
+                 water=None):
         self.mesh, self.water_table, self.gamma_w = mesh, water_table, gamma_w
+        self.water = water    # (x, y, elem) -> (steady, excess) kPa; None: hydrostatic
         lo, hi = mesh.points.min(axis=0), mesh.points.max(axis=0)
         self.xs = np.linspace(lo[0], hi[0], columns)
         self.top, self.dy = hi[1], (hi[1] - lo[1]) / rows
@@ -206,14 +217,17 @@ class MeshOverburden:
         i1 = np.minimum(i0 + 1, columns - 1)
         sv = ((1 - ax) * ((1 - ay) * svk[i0, j0] + ay * svk[i0, j0 + 1])
               + ax * ((1 - ay) * svk[i1, j0] + ay * svk[i1, j0 + 1]))
-        u0 = self.gamma_w * np.maximum(self.water_table - y, 0.0)
         mesh = self.mesh
         elem_p, _ = mesh.locate(np.column_stack([x, y]))
         reg = np.where(elem_p >= 0, mesh.region[np.maximum(elem_p, 0)], len(mesh.region_names))
-        sv_eff = sv - u0
+        if self.water is None:
+            u0, ue = self.gamma_w * np.maximum(self.water_table - y, 0.0), np.zeros_like(y)
+        else:
+            u0, ue = self.water(x, y, elem_p)
+        sv_eff = sv - u0 - ue
         sh_eff = np.zeros_like(sv_eff)
         for r in np.unique(reg):
             here = reg == r
             sh_eff[here] = self.horizontal[r](sv_eff[here])
-        return {"hydrostatic_kPa": u0, "vertical_effective_kPa": sv_eff,
-                "horizontal_effective_kPa": sh_eff}
+        return {"steady_pore_pressure_kPa": u0, "initial_excess_kPa": ue,
+                "vertical_effective_kPa": sv_eff, "horizontal_effective_kPa": sh_eff}

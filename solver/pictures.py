@@ -663,7 +663,8 @@ def make_pictures(run_dir: str | Path, out_dir: str | Path | None = None,
                 sec, out, values=u[i], scale=sc, quantity="excess pore pressure", unit="kPa",
                 file_stem=f"excess_pore_pressure_{_stem_time(fs.times[i])}",
                 time_days=float(fs.times[i]), stage=fs.stages[i], keep=keeps[i], model=model,
-                note="Excess pore pressure: above hydrostatic, positive in compression"
+                note="Excess pore pressure: above the steady pore pressure at the start "
+                     "(hydrostatic unless piezometric levels are given), positive in compression"
                      + ("; zero in the free-draining fill" if sec.lift_ids else "")
                      + ". The colour scale is this picture's own."))
     if s is not None:       # one scale for all times: the growth of settlement reads at once

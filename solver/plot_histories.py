@@ -92,7 +92,8 @@ def plot_pore_pressure_time(run: RunData, out: Path) -> list[Path]:
                                   "excess_pore_pressure_kPa", "excess pore pressure (kPa)",
                                   down=False)
     fig.suptitle(f"Dissipation of excess pore pressure: {run.title}", fontsize=11.5)
-    note = "Excess pore pressure: pore pressure above hydrostatic, positive in compression."
+    note = ("Excess pore pressure: pore pressure above the steady pore pressure at the start "
+            "(hydrostatic unless piezometric levels are given), positive in compression.")
     if flat:
         note += (" Not drawn (zero throughout: on a drained boundary or in free-draining "
                  f"ground): {', '.join(flat)}.")

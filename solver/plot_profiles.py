@@ -98,7 +98,9 @@ def plot_isochrones(run: RunData, out: Path, times=None) -> list[Path]:
                      fontsize=11.5)
         paths.append(style.finish(fig, out / f"isochrones_{name}.png",
                                   "Dashed lines: boundaries between regions of the mesh. Excess "
-                                  "pore pressure: above hydrostatic, positive in compression."))
+                                  "pore pressure: above the steady pore pressure at the start "
+                                  "(hydrostatic unless piezometric levels are given), positive "
+                                  "in compression."))
     return paths
 
 

@@ -84,7 +84,7 @@ class Runner:
             writer = ResultWriter(self.out_dir, sim.mesh, resume=self.resume,
                                   run_info={"title": model.title, "version": __version__})
         solver = sim.make_stepper()
-        state = State(0.0, np.zeros(pb.disc.n_dofs), pb.disc.n_u)
+        state = State(0.0, pb.initial_unknowns(), pb.disc.n_u)
         info = {"stage": 0, "stage_step": 0, "stage_starts": [], "step": 0, "p_ref": None,
                 "w_peak": 0.0, "w_now": 0.0, "until": {}}
         hist_t, hist_stage = [], []

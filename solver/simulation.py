@@ -281,22 +281,32 @@ class Simulation:
                              "list the edge in fixed_edges.")
 
     def _initial_state(self):
-        """Geostatic state at the nodes and at the probes (compression positive)."""
+        """Geostatic state at the nodes and at the probes (compression positive), from the
+        pore pressure at the start (:mod:`solver.pore_water`); the initial excess pore
+        pressure becomes the solver's starting excess."""
         from .initial import LayerColumn, MeshOverburden, geostatic_stress
+        from .pore_water import MeshWater, layer_water
         m, mesh = self.model, self.mesh
         wt = -m.water.table_depth
         gw = m.water.unit_weight
+        given = bool(m.water.piezometric_depths or m.water.initial_excess_pore_pressures)
         if m.section.kind == "mesh":
+            starting = {r: mat for r, mat in self.region_material.items()
+                        if r not in self.lift_regions}
             weights = {r: (mat.unit_weight, mat.saturated_unit_weight or mat.unit_weight, mat)
-                       for r, mat in self.region_material.items() if r not in self.lift_regions}
-            self._geostatic = MeshOverburden(mesh, weights, wt, gw)
+                       for r, mat in starting.items()}
+            water = MeshWater(mesh, m, starting) if given else None
+            self._geostatic = MeshOverburden(mesh, weights, wt, gw, water=water)
         else:
             col = LayerColumn.from_model(m, mesh.points[:, 0].min(), mesh.points[:, 0].max())
+            water = layer_water(m, col.tops) if given else None
             # Points above the original ground belong to lifts, placed later and stress-free;
             # their pore water is hydrostatic below the water table all the same.
             def geostatic(x, y):
-                g = geostatic_stress(col, wt, gw, x, np.minimum(y, 0.0))
-                g["hydrostatic_kPa"] = gw * np.maximum(wt - np.asarray(y, float), 0.0)
+                y = np.asarray(y, float)
+                g = geostatic_stress(col, wt, gw, x, np.minimum(y, 0.0), water)
+                g["steady_pore_pressure_kPa"] = np.where(
+                    y > 0.0, gw * np.maximum(wt - y, 0.0), g["steady_pore_pressure_kPa"])
                 return g
             self._geostatic = geostatic
         x, y = mesh.points.T
@@ -305,9 +315,38 @@ class Simulation:
         on_ground = np.zeros(mesh.n_nodes, bool)
         on_ground[mesh.triangles[ground].ravel()] = True
         for k in g:
-            if k != "hydrostatic_kPa":
+            if k != "steady_pore_pressure_kPa":
                 g[k] = np.where(on_ground, g[k], 0.0)
         self.initial = g
+        if given:
+            self._check_uplift(g)
+            corner = mesh.pressure_index >= 0
+            p0 = np.zeros(self.problem.disc.n_p)
+            p0[mesh.pressure_index[corner]] = g["initial_excess_kPa"][corner]
+            self.problem.set_initial_excess(p0)
+
+    def _check_uplift(self, g: dict) -> None:
+        """The pore pressure at the start may not exceed the total vertical stress (the
+        ground would lift off: negative effective stress)."""
+        m = self.model
+        sv = g["vertical_effective_kPa"]
+        scale = max(float(np.abs(sv).max(initial=0.0)), 1.0)
+        bad = np.flatnonzero(sv < -1e-9 * scale)
+        if not bad.size:
+            return
+        i = bad[np.argmin(sv[bad])]
+        x, y = self.mesh.points[i]
+        w = m.water
+        by_excess = g["initial_excess_kPa"][i] > 0 and w.initial_excess_pore_pressures
+        key = "initial_excess_pore_pressures" if by_excess else "piezometric_depths"
+        names = list(getattr(w, key))
+        raise InputError(
+            f"the pore pressure at the start exceeds the total vertical stress at "
+            f"({x:g}, {y:g}) m by {-sv[i]:.3g} kPa: the ground would lift off (hydraulic "
+            f"uplift)", field=f"water.{key}.{names[0]}" if names else f"water.{key}",
+            source=m.source,
+            fix="lower the piezometric level (a larger depth) or the initial excess, or check "
+                "the unit weights: the effective stress at the start must not be negative.")
 
     def _probes(self):
         m, mesh = self.model, self.mesh
@@ -375,7 +414,7 @@ class Simulation:
             "settlement_m": -uv[:, 1],
             "horizontal_displacement_m": uv[:, 0],
             "excess_pore_pressure_kPa": p,
-            "total_pore_pressure_kPa": g["hydrostatic_kPa"] + p,
+            "total_pore_pressure_kPa": g["steady_pore_pressure_kPa"] + p,
             "vertical_effective_stress_kPa": g["vertical_effective_kPa"] - dsig[:, 1],
             "horizontal_effective_stress_kPa": g["horizontal_effective_kPa"] - dsig[:, 0],
             "out_of_plane_effective_stress_kPa": g["horizontal_effective_kPa"] - dsig[:, 2],
@@ -422,7 +461,7 @@ class Simulation:
         disp = state.displacement()
         return {"displacement_m": disp, "settlement_m": -disp[:, 1],
                 "excess_pore_pressure_kPa": p,
-                "total_pore_pressure_kPa": g["hydrostatic_kPa"] + p,
+                "total_pore_pressure_kPa": g["steady_pore_pressure_kPa"] + p,
                 "effective_stress_kPa": eff}
 
     # -------------------------------------------------------- stepping

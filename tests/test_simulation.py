@@ -66,8 +66,8 @@ def test_at_rest_initial_state_is_in_equilibrium_under_self_weight():
     g = sim._geostatic(x, y)
     ne, nq = d.xq.shape[:2]
     sig = np.zeros((ne, nq, 4))                       # total stress, tension positive
-    sig[..., 0] = -(g["horizontal_effective_kPa"] + g["hydrostatic_kPa"]).reshape(ne, nq)
-    sig[..., 1] = -(g["vertical_effective_kPa"] + g["hydrostatic_kPa"]).reshape(ne, nq)
+    sig[..., 0] = -(g["horizontal_effective_kPa"] + g["steady_pore_pressure_kPa"]).reshape(ne, nq)
+    sig[..., 1] = -(g["vertical_effective_kPa"] + g["steady_pore_pressure_kPa"]).reshape(ne, nq)
     sig[..., 2] = sig[..., 0]
     f_int = d.stress_to_nodal_forces(sig)
     gamma = np.where(d.xq[..., 1] > -2.0,

@@ -142,6 +142,9 @@ class BiotProblem:
         # points, and the force that keeps it stress-free: sum B^T D eps_placed.
         self.placed_strain_q = np.zeros(self.disc.B.shape[:3])
         self.f_placed = np.zeros(self.disc.n_u)
+        # An excess pore pressure at the start and the force that holds it in equilibrium.
+        self.p_initial = np.zeros(self.disc.n_p)
+        self.f_initial = np.zeros(self.disc.n_u)
         self._body = [(bf, self._body_force_vector(bf)) for bf in self.body_forces]
         self._plate_slots()
         self._assemble()
@@ -315,6 +318,27 @@ class BiotProblem:
         self._constrain()
         self.version += 1
 
+    def set_initial_excess(self, p0: np.ndarray) -> None:
+        """Start from the excess pore pressure ``p0`` (n_p,), kPa, in equilibrium.
+
+        The effective stress at the start is smaller by ``p0`` than it would be without it
+        (the total stress is the weight), so the displacement rows carry the constant force
+        ``-Q p0``: K u - Q (p - p0) = f, at rest for u = 0, p = p0. As ``p0`` dissipates the
+        effective stress grows and the ground settles.
+        """
+        d = self.disc
+        on = self.active.astype(float)
+        Qe = d.coupling_blocks(self._per_element("biot_coefficient") * on)   # (ne, 12, 3)
+        fe = np.einsum("eij,ej->ei", Qe, np.asarray(p0, float)[d.p_dofs - d.n_u])
+        self.f_initial = -np.bincount(d.u_dofs.ravel(), weights=fe.ravel(), minlength=d.n_u)
+        self.p_initial = np.asarray(p0, float).copy()
+
+    def initial_unknowns(self) -> np.ndarray:
+        """All unknowns at the start: no displacement, the initial excess pore pressure."""
+        x = np.zeros(self.disc.n_dofs)
+        x[self.disc.n_u:] = self.p_initial
+        return x
+
     def constraints(self, dt: float) -> "Constraints":
         """The constraint set for a step: drained edges act only over a step of positive length
         (``dt = inf`` asks for the fully drained state, excess pressure zero everywhere).
@@ -347,6 +371,7 @@ class BiotProblem:
         """
         d = self.disc
         f = np.zeros(d.n_dofs)
+        f[:d.n_u] += self.f_initial
         if placed:
             f[:d.n_u] += self.f_placed
         for bf, vec in self._body:

@@ -235,7 +235,8 @@ def hand_estimate(model: Model, times=None, max_sublayer_thickness: float | None
         zm = subs.mid
         gw = model.water.unit_weight
         s0_layers = settlement.vertical_effective_stress(0.5 * (col.tops[:-1] + col.tops[1:]),
-                                                         col.layers, model.water.table_depth, gw)
+                                                         col.layers, model.water.table_depth, gw,
+                                                         col.pore_pressure)
         col.free, free_notes = free_draining(col, s0_layers, first_time, model.drainage, gw)
         notes.extend(n for n in free_notes if n not in notes)
         unit = {n: sum(part_stress(p, x, zm, axi) for p in loads[n].stress_parts) for n in active}

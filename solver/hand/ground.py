@@ -24,11 +24,13 @@ from solver.analytic import terzaghi_time_factor
 from solver.errors import InputError
 from solver.initial import LayerColumn
 from solver.model import Material, Model, base_elevation, domain_extent
+from solver.pore_water import layer_water
 
 from . import parameters, settlement
 
 __all__ = ["FREE_DRAINING_DEGREE", "LayerData", "layer_data", "free_draining", "Column",
-           "layer_faces", "build_column", "elastic_youngs", "undrained_modulus"]
+           "layer_faces", "start_water", "build_column", "elastic_youngs",
+           "undrained_modulus"]
 
 FREE_DRAINING_DEGREE = 0.99
 """A layer open to a drained boundary is free-draining in the time rate when its own degree
@@ -257,6 +259,8 @@ class Column:
     tops: NDArray[np.float64]       # (n + 1,) depths of the layer faces, m
     free: NDArray[np.bool_]         # (n,) free-draining in the time rate (see free_draining)
     eu: NDArray[np.float64]         # (n,) undrained modulus E_u, kPa (NaN: not given)
+    pore_pressure: object = None    # u(z) at the start, kPa (None: hydrostatic)
+    initial_excess: object = None   # u_e0(z), kPa (None: none)
 
 
 def layer_faces(model: Model, x: float, n_layers: int) -> NDArray[np.float64]:
@@ -274,6 +278,26 @@ def layer_faces(model: Model, x: float, n_layers: int) -> NDArray[np.float64]:
             faces[-1] = -base
     faces = np.minimum(faces, faces[-1])
     return faces
+
+
+def start_water(model: Model, x: float):
+    """The pore pressure at the start under x as functions of depth z (m): ``(u(z), u_e0(z))``
+    in kPa, the whole pore pressure (steady seepage between piezometric levels plus the
+    initial excess) and the initial excess alone, as the FE run starts from them
+    (:mod:`solver.pore_water`); ``(None, None)`` when it is hydrostatic below the table."""
+    w = model.water
+    if not (w.piezometric_depths or w.initial_excess_pore_pressures):
+        return None, None
+    n = len(model.layers)
+    elev = -layer_faces(model, x, n)[None, :]
+    water = layer_water(model, lambda xs: np.broadcast_to(elev, (len(xs), n + 1)))
+
+    def parts(z):
+        z = np.asarray(z, dtype=float)
+        us, ue = water(np.full(z.size, float(x)), -z.ravel())
+        return us.reshape(z.shape), ue.reshape(z.shape)
+
+    return (lambda z: sum(parts(z))), (lambda z: parts(z)[1])
 
 
 def build_column(model: Model, data: list[LayerData], x: float, split: Sequence[float]
@@ -295,7 +319,9 @@ def build_column(model: Model, data: list[LayerData], x: float, split: Sequence[
                          field="layers", source=model.source, fix="give [[layers]] with thickness.")
     tops_a = np.array(tops)
     eu = np.array([undrained_modulus(d.material) for d in datas])
-    return Column(float(x), layers, datas, tops_a, np.zeros(len(layers), dtype=bool), eu)
+    u_start, excess = start_water(model, x)
+    return Column(float(x), layers, datas, tops_a, np.zeros(len(layers), dtype=bool), eu,
+                  u_start, excess)
 
 
 def undrained_modulus(m: Material) -> float:

@@ -67,11 +67,18 @@ def column_solution(model, col, subs, max_sub, unit, unit_h, active, pieces, fin
     stress_final = sum((final_factor[n] * unit[n] for n in active), np.zeros_like(zm))
     sx_final = sum((final_factor[n] * unit_h[n] for n in active), np.zeros_like(zm))
     ps = settlement.settlement_under_probe(col.layers, lambda z: stress_final, model.water.table_depth,
-                                           max_sublayer_thickness=max_sub, gamma_w=gw)
+                                           max_sublayer_thickness=max_sub, gamma_w=gw,
+                                           pore_pressure=col.pore_pressure)
     if ps.mid.size != zm.size or not np.allclose(ps.mid, zm):
         raise AssertionError("sublayers differ")       # the same split_layers call
+    increments = _increments(pieces, unit, zm.size)
+    if col.initial_excess is not None and np.any(col.initial_excess(zm) != 0.0):
+        # The initial excess dissipates from the start as a sudden change of effective stress
+        # (one-dimensionally the same as a sudden load of that size); it is in place before
+        # every stage (stage index -1).
+        increments.insert(0, history.Increment(0.0, 0.0, col.initial_excess(zm), "-1"))
     staged = history.staged_consolidation(
-        col.layers, ps, ps.sigma_v0_kPa, ps.sigma_p_kPa, _increments(pieces, unit, zm.size), t_out,
+        col.layers, ps, ps.sigma_v0_kPa, ps.sigma_p_kPa, increments, t_out,
         drained_top=bool(model.drainage.top), drained_bottom=bool(model.drainage.base),
         free_draining_layers=col.free, rate_group=[d.model_index for d in col.data],
         depths=depths, gamma_w=gw, growth=FD_GROWTH)
@@ -162,6 +169,8 @@ def probe_estimate(model, pr, d, col, sol, j, final_2to1, loads, active, pieces,
     sec_t = np.zeros(t_out.size)
     sec_final = 0.0
     final_eff = ps.sigma_v0_kPa + ps.delta_sigma_kPa
+    if col.initial_excess is not None:            # it has dissipated by the end
+        final_eff = final_eff + col.initial_excess(ps.mid)
     loaded = np.where(np.isnan(ps.sigma_p_kPa), ps.delta_sigma_kPa > 0.0,
                       (final_eff > ps.sigma_p_kPa) & (final_eff >= st.final_memory_kPa * (1.0 - 1e-9)))
     has_c_alpha = np.array([col.layers[i].secondary_compression_index is not None

@@ -347,14 +347,18 @@ def split_layers(layers: Sequence[Layer], max_thickness: float = 0.5, min_per_la
 
 
 def vertical_effective_stress(z: ArrayLike, layers: Sequence[Layer], water_table_depth: float,
-                              gamma_w: float = GAMMA_W) -> NDArray[np.float64]:
+                              gamma_w: float = GAMMA_W,
+                              pore_pressure: Callable[[NDArray[np.float64]], ArrayLike] | None = None
+                              ) -> NDArray[np.float64]:
     """Initial vertical effective stress sigma'_v0 (kPa) at depths ``z`` (m).
 
     ``sigma'_v0 = integral of unit weight - gamma_w max(z - z_w, 0)``, hydrostatic pore
     pressure below the water table at depth ``z_w`` (Terzaghi 1925, *Erdbaumechanik*:
     effective stress). Above the water table ``unit_weight_above_water`` is used and no
     suction is counted. A negative ``water_table_depth`` is free water above the ground;
-    it adds equally to total stress and pore pressure.
+    it adds equally to total stress and pore pressure. ``pore_pressure(z)`` (kPa), when
+    given, is the pore pressure at the start instead of the hydrostatic one (steady seepage
+    between piezometric levels, an initial excess: :mod:`solver.pore_water`).
     """
     z = np.asarray(z, dtype=float)
     total_depth = float(sum(layer.thickness for layer in layers))
@@ -375,6 +379,8 @@ def vertical_effective_stress(z: ArrayLike, layers: Sequence[Layer], water_table
         top = bottom
     if zw < 0.0:
         sigma += gamma_w * (-zw)
+    if pore_pressure is not None:
+        return sigma - np.broadcast_to(np.asarray(pore_pressure(z), dtype=float), z.shape)
     u0 = gamma_w * np.maximum(z - zw, 0.0)
     return sigma - u0
 
@@ -408,7 +414,9 @@ class ProbeSettlement(Sublayers):
 def settlement_under_probe(layers: Sequence[Layer],
                            stress_increase: Callable[[NDArray[np.float64]], ArrayLike] | float,
                            water_table_depth: float, max_sublayer_thickness: float = 0.5,
-                           gamma_w: float = GAMMA_W) -> ProbeSettlement:
+                           gamma_w: float = GAMMA_W,
+                           pore_pressure: Callable[[NDArray[np.float64]], ArrayLike] | None = None
+                           ) -> ProbeSettlement:
     """Final primary consolidation settlement under a probe (m), sublayer by sublayer.
 
     The layers are split by :func:`split_layers`; at each sublayer mid-depth the initial
@@ -430,6 +438,8 @@ def settlement_under_probe(layers: Sequence[Layer],
         Thickness control (m).
     gamma_w : float
         Unit weight of water (kN/m3).
+    pore_pressure : callable, optional
+        ``u(z)`` (kPa), the pore pressure at the start (see :func:`vertical_effective_stress`).
 
     Returns
     -------
@@ -437,7 +447,7 @@ def settlement_under_probe(layers: Sequence[Layer],
     """
     subs = split_layers(layers, max_sublayer_thickness)
     zm = subs.mid
-    s0 = vertical_effective_stress(zm, layers, water_table_depth, gamma_w)
+    s0 = vertical_effective_stress(zm, layers, water_table_depth, gamma_w, pore_pressure)
     if callable(stress_increase):
         ds = np.broadcast_to(np.asarray(stress_increase(zm), dtype=float), zm.shape).copy()
     else:

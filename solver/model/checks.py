@@ -18,7 +18,8 @@ from .rules import (_BERM_RULES, _DRAINAGE_RULES, _EMBANKMENT_RULES, _FOOTING_RU
                     _OEDOMETER_RULES, _OUTPUT_RULES, _POSITIVE_DURATION, _PROBE_RULES,
                     _SECTION_RULES, _STABILITY_RULES, _STAGE_RULES, _TIME_STEP_RULES,
                     _WATER_RULES, _Rule,
-                    _GRADING_RULES, _UNDRAINED_RULES, _LIMIT_RULES, _STRUCTURE_RULES)
+                    _GRADING_RULES, _UNDRAINED_RULES, _LIMIT_RULES, _STRUCTURE_RULES,
+                    _EXCESS_RULE, _PIEZOMETRIC_RULE)
 from .plausible import plausibility_warnings
 from .schema import _REL_TOL, Embankment, Grading, Layer, Material, Model
 from .strength import check_strength
@@ -108,7 +109,7 @@ def check_model(model: Model) -> None:
     _check_loads(model)
     _check_drainage(model)
     _check_stages(model)
-    _check_fields(model, model.water, "water", _WATER_RULES)
+    _check_water(model)
     _check_fields(model, model.time_steps, "time_steps", _TIME_STEP_RULES)
     ts = model.time_steps
     if ts.max_step is not None and ts.max_step < ts.first_step:
@@ -539,6 +540,34 @@ def _check_stages(model: Model) -> None:
                             "this name")
     _unique(model, [s.name for s in model.stages], "stages", "stages")
 
+
+
+def _check_water(model: Model) -> None:
+    """The water table, and the piezometric levels and initial excess pore pressures named
+    by layer (or by region of a user mesh present at the start)."""
+    w = model.water
+    _check_fields(model, w, "water", _WATER_RULES)
+    mesh = model.section.kind == "mesh"
+    placed = {st.region for st in model.stages if st.kind == "lift"}
+    names = ([r for r in model.section.regions if r not in placed] if mesh
+             else list(dict.fromkeys(ly.name for ly in model.layers)))
+    what = "region of the mesh present at the start" if mesh else "layer"
+    define = ("name a region listed in [section.regions] (not one placed by a stage)" if mesh
+              else "name a layer (its name, or its material's when it has none)")
+    for key, rule in (("piezometric_depths", _PIEZOMETRIC_RULE),
+                      ("initial_excess_pore_pressures", _EXCESS_RULE)):
+        table = getattr(w, key)
+        path = f"water.{key}"
+        if not isinstance(table, dict):
+            _fail(model, f"{key} must be a table of names", path,
+                  f"write [{path}] with lines such as {rule.example}.")
+        for name, v in table.items():
+            p = _join(path, name)
+            _name_check(model, name, names, p, what, define)
+            _check_value(model, v, p, rule)
+            if key == "initial_excess_pore_pressures" and not 1 <= len(v) <= 2:
+                _fail(model, f"expected one value (uniform) or two (top and base), got "
+                             f"{len(v)}", p, f"write {rule.example}, or one value.")
 
 
 def _check_probes(model: Model) -> None:

@@ -14,7 +14,8 @@ from .rules import (_BERM_RULES, _DRAINAGE_RULES, _EMBANKMENT_RULES, _FOOTING_RU
                     _MODEL_TABLES, _OEDOMETER_RULES, _OUTPUT_RULES, _PROBE_RULES,
                     _SECTION_RULES, _STABILITY_RULES, _STAGE_RULES, _TIME_STEP_RULES,
                     _WATER_RULES, _Rule,
-                    _GRADING_RULES, _UNDRAINED_RULES, _LIMIT_RULES, _STRUCTURE_RULES)
+                    _GRADING_RULES, _UNDRAINED_RULES, _LIMIT_RULES, _STRUCTURE_RULES,
+                    _WATER_TABLES, _EXCESS_RULE, _PIEZOMETRIC_RULE)
 from .schema import (MAX_LIFTS, Berm, Drainage, Embankment, Footing, Grading, Layer,
                      LineProbe,
                      Material, Model, OedometerParameters, Output, PointProbe, Section, Stage,
@@ -102,6 +103,24 @@ def _read_embankment(r: _Reader, value: Any) -> Embankment:
     return Embankment(**vals)
 
 
+def _read_water(r: _Reader, value: Any) -> Water:
+    d = r.table(value, "water", "table_depth = 1.0")
+    vals = r.read(d, "water", _WATER_RULES, nested=_WATER_TABLES)
+    if "piezometric_depths" in d:
+        path = "water.piezometric_depths"
+        t = r.table(d["piezometric_depths"], path, _PIEZOMETRIC_RULE.example)
+        vals["piezometric_depths"] = {name: r.value(v, _join(path, name), _PIEZOMETRIC_RULE)
+                                      for name, v in t.items()}
+    if "initial_excess_pore_pressures" in d:
+        path = "water.initial_excess_pore_pressures"
+        t = r.table(d["initial_excess_pore_pressures"], path, _EXCESS_RULE.example)
+        # one value (uniform) or [top, base]
+        vals["initial_excess_pore_pressures"] = {
+            name: r.value(v if isinstance(v, list) else [v], _join(path, name), _EXCESS_RULE)
+            for name, v in t.items()}
+    return Water(**vals)
+
+
 def _read_section(r: _Reader, value: Any, analysis: str) -> Section:
     path = "section"
     d = r.table(value, path, 'kind = "embankment"')
@@ -186,8 +205,7 @@ def model_from_dict(data: dict, source: str | None = None) -> Model:
                 layer.name = f"{layer.name}_{seen[layer.name]}"
 
     section = _read_section(r, data.get("section", {}), analysis)
-    water = Water(**r.read(r.table(data.get("water", {}), "water", "table_depth = 1.0"),
-                           "water", _WATER_RULES))
+    water = _read_water(r, data.get("water", {}))
     drainage = Drainage(**r.read(r.table(data.get("drainage", {}), "drainage", "top = true"),
                                  "drainage", _DRAINAGE_RULES))
     loads = _read_list(r, data, "loads", _LOAD_RULES, ("x_left", "x_right", "pressure"),

@@ -223,6 +223,11 @@ _WATER_RULES: dict[str, _Rule] = {
     "table_depth": _r("length", "table_depth = 1.0"),
     "unit_weight": _r("unit_weight", 'unit_weight = "9.81 kN/m3"', **_POS),
 }
+# The entries of [water.piezometric_depths] and [water.initial_excess_pore_pressures].
+_PIEZOMETRIC_RULE = _r("length", 'sand = "-2 m"  (depth of the level; negative: above the '
+                                 'ground)')
+_EXCESS_RULE = _r("list:pressure", 'clay = ["0 kPa", "30 kPa"]  (top and base of the layer)')
+_WATER_TABLES = ("piezometric_depths", "initial_excess_pore_pressures")
 
 _DRAINAGE_RULES: dict[str, _Rule] = {
     "top": _r("bool", "top = true"),

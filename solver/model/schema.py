@@ -226,9 +226,19 @@ class Section:
 @dataclass
 class Water:
     """table_depth : depth of the water table below the ground surface, m (negative: above);
-    unit_weight : kN/m3."""
+    unit_weight : kN/m3.
+
+    piezometric_depths : layer name (or region name of a user mesh) -> depth of its
+    piezometric level below the ground surface, m (negative: above the ground, an artesian
+    head); the layer has that head throughout and the water seeps steadily through the
+    layers between levels (see :mod:`solver.pore_water`).
+    initial_excess_pore_pressures : layer (or region) name -> initial excess pore pressure,
+    kPa: [value] uniform, or [top, base] linear between the top and the base of the layer.
+    """
     table_depth: float = 0.0
     unit_weight: float = 9.81
+    piezometric_depths: dict[str, float] = field(default_factory=dict)
+    initial_excess_pore_pressures: dict[str, list[float]] = field(default_factory=dict)
 
 
 @dataclass

@@ -60,6 +60,11 @@ def model_to_dict(model: Model) -> dict[str, Any]:
         sd["region_mesh_size"] = dict(sec.region_mesh_size)
     d["section"] = sd
     d["water"] = _plain(model.water, _WATER_RULES)
+    for key in ("piezometric_depths", "initial_excess_pore_pressures"):
+        table = getattr(model.water, key)
+        if table:
+            d["water"][key] = {n: list(v) if isinstance(v, list) else v
+                               for n, v in table.items()}
     d["drainage"] = _plain(model.drainage, _DRAINAGE_RULES)
     d["loads"] = [_plain(lo, _LOAD_RULES) for lo in model.loads]
     d["stages"] = [_plain(st, _STAGE_RULES) for st in model.stages]
