@@ -105,8 +105,9 @@ def _check(args) -> int:
     print(f"  stages        {len(model.stages)}, at most {total:,.1f} days in all")
     for st in model.stages:
         extra = f", until {st.until_degree:.0%} consolidated" if st.until_degree else ""
-        what = f"lift {st.lift}" if st.kind == "lift" else (
-            f"{', '.join(st.loads)} to {st.factor:g}" if st.kind == "load" else "consolidate")
+        what = (f"lift {st.region or st.lift}" if st.kind == "lift" else
+                f"remove {st.region or f'lift {st.lift}'}" if st.kind == "remove" else
+                f"{', '.join(st.loads)} to {st.factor:g}" if st.kind == "load" else "consolidate")
         print(f"    {st.name:24s} {what:28s} {st.duration:10,.1f} days{extra}")
     print(f"  probes        {', '.join(sim.probe_names) or '(none)'}")
     print(f"  lines         {', '.join(ln.name for ln in model.lines) or '(none)'}")

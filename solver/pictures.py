@@ -376,24 +376,31 @@ def _xlabel(model) -> str:
     return "x, horizontal (m)"
 
 
-def _active_elements(sec: Section, stage: str, model, disp: np.ndarray | None) -> np.ndarray:
-    """Elements present at an output of ``stage``: lifts placed by then, all the ground."""
+def _active_elements(sec: Section, stage: str, model, disp: np.ndarray | None,
+                     stage_over: bool = True) -> np.ndarray:
+    """Elements present at an output of ``stage``: the ground, and the lifts (or regions of a
+    user mesh) placed by then and not removed; what ``stage`` removes is gone at its end
+    (``stage_over``: the output is the stage's last)."""
     keep = np.ones(len(sec.cells), dtype=bool)
-    lifts = sec.lift_ids
-    if not lifts:
+    names = [st.name for st in model.stages] if model is not None else []
+    if stage in names:
+        k = names.index(stage)
+        present = {sec.region_names[rid]: False for rid in sec.lift_ids}
+        for j, st in enumerate(model.stages):
+            if st.kind in ("lift", "remove"):
+                reg = st.region or f"lift_{st.lift}"
+                present.setdefault(reg, False)
+                if j <= k and st.kind == "lift":
+                    present[reg] = True
+                elif st.kind == "remove" and (j < k or (j == k and stage_over)):
+                    present[reg] = False
+        for reg, on in present.items():
+            if reg in sec.region_names:
+                keep[sec.region == sec.region_names.index(reg)] = on
         return keep
-    placed: set[int] | None = None
-    if model is not None:
-        names = [st.name for st in model.stages]
-        if stage in names:
-            k = names.index(stage)
-            placed = {st.lift for st in model.stages[:k + 1] if st.kind == "lift"}
-    for rid in lifts:
-        n = int(sec.region_names[rid].split("_")[1])
+    for rid in sec.lift_ids:        # no model: a lift not (or no longer) placed does not move
         el = sec.region == rid
-        if placed is not None:
-            keep[el] = n in placed
-        elif disp is not None:      # no model: a lift not yet placed has not moved
+        if disp is not None:
             keep[el] = bool(np.abs(disp[np.unique(sec.cells[el])]).max() > 0)
     return keep
 
@@ -645,8 +652,9 @@ def make_pictures(run_dir: str | Path, out_dir: str | Path | None = None,
     peak = np.nanmax(np.abs(u), axis=1) if u is not None else np.full(len(fs.times), np.nan)
     idx = (pick_times(fs.times, times) if times is not None and len(times)
            else _default_times(fs.times, fs.stages, model, peak))
-    keeps = {i: _active_elements(sec, fs.stages[i], model,
-                                 None if disp is None else disp[i]) for i in idx}
+    last_of_stage = {fs.stages[i]: i for i in range(len(fs.times))}
+    keeps = {i: _active_elements(sec, fs.stages[i], model, None if disp is None else disp[i],
+                                 stage_over=last_of_stage[fs.stages[i]] == i) for i in idx}
 
     def used_values(a):
         return np.concatenate([a[i][np.unique(sec.cells[keeps[i]])] for i in idx])

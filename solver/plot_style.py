@@ -169,7 +169,7 @@ def mark_stages(ax, stages: Sequence, log: bool) -> None:
     labels = []
     for st in stages:
         a, b = st.start_days, st.end_days
-        if st.kind in ("lift", "load") and b > a:
+        if st.kind in ("lift", "remove", "load") and b > a:
             a_ = max(a, lo) if log else a
             if b > a_:
                 ax.axvspan(a_, b, color=_BUILD_SHADE, zorder=0, lw=0)

@@ -322,7 +322,9 @@ def _stages_html(model, run) -> str:
     spans = {st.name: st for st in (run.stages if run is not None else [])}
     rows = []
     for i, st in enumerate(model.stages):
-        what = {"lift": f"places lift {st.lift}",
+        what = {"lift": f"places {st.region or f'lift {st.lift}'}",
+                "remove": f"removes {st.region or f'lift {st.lift}'} (weight off over the "
+                          "stage, elements gone at its end)",
                 "load": f"ramps {', '.join(st.loads)} to {st.factor:g}",
                 "consolidate": "waits (consolidation)"}.get(st.kind, st.kind)
         sp = spans.get(st.name)

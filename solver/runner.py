@@ -72,9 +72,16 @@ class Runner:
             pb.activate([region], x)
             self.placed_at.append(x.copy())
             sim.ramps[region].set(t0, st.duration, 1.0)
+        elif st.kind == "remove":
+            sim.ramps[self._region(st)].set(t0, st.duration, 0.0)
         elif st.kind == "load":
             for name in st.loads:   # names were checked when the model was read
                 sim.ramps[name].set(t0, st.duration, st.factor)
+
+    @staticmethod
+    def _region(st) -> str:
+        """The region a lift or remove stage places or takes away."""
+        return st.region or f"lift_{st.lift}"
 
     def run(self):
         sim, pb, model = self.sim, self.sim.problem, self.sim.model
@@ -100,6 +107,8 @@ class Runner:
             for k, t0 in enumerate(info["stage_starts"]):
                 x_k = next(placed) if model.stages[k].kind == "lift" else state.x
                 self._start_stage(k, t0, x_k)
+                if model.stages[k].kind == "remove" and k < info["stage"]:
+                    pb.deactivate([self._region(model.stages[k])])
             if hasattr(solver, "restore"):
                 solver.restore(arrays)
             hist_t = list(arrays["hist_t"])
@@ -127,6 +136,9 @@ class Runner:
                 t0 = info["stage_starts"][k]
                 times = sim.stage_times(t0, st)
                 for t in times[info["stage_step"]:]:
+                    if st.kind == "remove" and info["stage_step"] == len(times) - 1:
+                        # the removed elements go for the last step, when their weight is off
+                        pb.deactivate([self._region(st)])
                     state = solver.step(state, float(t))
                     info["step"] += 1
                     info["stage_step"] += 1

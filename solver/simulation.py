@@ -5,7 +5,8 @@
                                      # the probe histories (and writes the run folder)
 
 Stages run in order. A ``lift`` stage places its lift stress-free at the stage start and ramps
-its weight on over the stage; a ``load`` stage ramps the named loads to ``factor`` (a stage of
+its weight on over the stage; a ``remove`` stage ramps a placed lift's weight off and takes
+its elements away for the stage's last step (``BiotProblem.deactivate``); a ``load`` stage ramps the named loads to ``factor`` (a stage of
 zero duration applies it at once, felt undrained); a ``consolidate`` stage changes nothing
 and may stop early at an average degree of consolidation. The embankment fill is treated as
 free-draining (no excess pore pressure in it; common practice for granular fill), so the

@@ -318,6 +318,25 @@ class BiotProblem:
         self._constrain()
         self.version += 1
 
+    def deactivate(self, regions: list[str]) -> None:
+        """Take the elements of ``regions`` away now (fill removed): from here on they carry
+        nothing, so the forces their stresses exerted on the elements around them are
+        released and the rest of the ground answers (unloads) in the next solve. Their nodes
+        that belong to no active element are held (at zero) like those not yet placed."""
+        d = self.disc
+        gone = np.isin(self.mesh.region, [self.mesh.region_id(r) for r in regions]) & self.active
+        if not gone.any():
+            return
+        sig_q = np.einsum("eij,eqj->eqi", self.D[gone], self.placed_strain_q[gone])
+        fe = np.einsum("eqij,eqi,eq->ej", d.B[gone], sig_q, d.dV[gone])
+        self.f_placed -= np.bincount(d.u_dofs[gone].ravel(), weights=fe.ravel(),
+                                     minlength=d.n_u)
+        self.placed_strain_q[gone] = 0.0
+        self.active &= ~gone
+        self._assemble()
+        self._constrain()
+        self.version += 1
+
     def set_initial_excess(self, p0: np.ndarray) -> None:
         """Start from the excess pore pressure ``p0`` (n_p,), kPa, in equilibrium.
 

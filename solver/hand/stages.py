@@ -1,8 +1,9 @@
 """The model's stages as the hand method's load history.
 
 :func:`schedule` turns the stages into load :class:`Piece` records (start, duration, load
-name, change of factor, stage): a lift's weight ramps on over its stage, a load stage ramps the
-named loads to their new factor, a consolidate stage waits. :func:`ramp` is the fraction of a
+name, change of factor, stage): a lift's weight ramps on over its stage and off over a stage
+that removes it, a load stage ramps the named loads to their new factor, a consolidate stage
+waits. :func:`ramp` is the fraction of a
 piece applied at given times; :func:`default_times` the output times of the settlement
 histories.
 
@@ -62,6 +63,16 @@ def schedule(model: Model, loads: dict[str, Load], notes: list[str]
                                  fix="place lifts 1, 2, ... of section.embankment.lifts.")
             pieces.append(Piece(t, dur, name, 1.0 - factor[name], i))
             factor[name] = 1.0
+        elif st.kind == "remove":
+            name = st.region or f"lift_{st.lift}"
+            if name not in loads:
+                raise InputError(f"stage {st.name!r} removes {name!r}, which the hand method "
+                                 "does not know as a load", field=f"stages[{i + 1}].lift",
+                                 source=model.source,
+                                 fix="remove a lift placed by an earlier stage.")
+            if factor[name] != 0.0:     # its weight comes off over the stage (Cr on unloading)
+                pieces.append(Piece(t, dur, name, -factor[name], i))
+            factor[name] = 0.0
         elif st.kind == "load":
             for j, name in enumerate(st.loads):
                 if name not in loads:

@@ -470,14 +470,16 @@ def _check_stages(model: Model) -> None:
     n_lifts = len(emb.lifts) if emb else 0
     loadable = [lo.name for lo in model.loads] + [f.name for f in model.section.footings]
     placed = 0
+    removed: set[int] = set()
     for i, st in enumerate(model.stages):
         p = f"stages[{i + 1}]"
         _check_fields(model, st, p, _STAGE_RULES)
-        if st.kind != "load":
+        if st.kind not in ("load", "remove"):
             _check_value(model, st.duration, f"{p}.duration", _POSITIVE_DURATION)
-        if st.kind != "lift" and st.lift is not None:
+        if st.kind not in ("lift", "remove") and st.lift is not None:
             _fail(model, f"lift is given for a stage of kind {st.kind!r}", f"{p}.lift",
-                  "set kind = \"lift\" to place a lift, or remove lift.")
+                  "set kind = \"lift\" to place a lift (\"remove\" to take it away), or "
+                  "remove lift.")
         if st.kind != "load" and st.loads:
             _fail(model, f"loads are given for a stage of kind {st.kind!r}", f"{p}.loads",
                   "set kind = \"load\" to apply or remove loads, or remove loads.")
@@ -488,9 +490,13 @@ def _check_stages(model: Model) -> None:
             _fail(model, f"until_degree is given for a stage of kind {st.kind!r}",
                   f"{p}.until_degree", "until_degree ends a stage of kind \"consolidate\"; "
                                        "add such a stage after this one.")
-        if st.kind != "lift" and st.region is not None:
+        if st.kind not in ("lift", "remove") and st.region is not None:
             _fail(model, f"region is given for a stage of kind {st.kind!r}", f"{p}.region",
-                  "set kind = \"lift\" to place a region of the mesh, or remove region.")
+                  "set kind = \"lift\" to place a region of the mesh (\"remove\" to take it "
+                  "away), or remove region.")
+        if st.kind == "remove":
+            placed = _check_removal(model, i, st, placed, removed)
+            continue
         if st.kind == "lift" and model.section.kind == "mesh":
             if st.region is None or st.lift is not None:
                 _fail(model, "on a user mesh a stage of kind 'lift' places a named region",
@@ -527,6 +533,10 @@ def _check_stages(model: Model) -> None:
             if st.lift != placed + 1:
                 _fail(model, f"lift {st.lift} is placed before lift {placed + 1}", f"{p}.lift",
                       f"place the lifts in order from the bottom: lift {placed + 1} next.")
+            if st.lift - 1 in removed:
+                _fail(model, f"lift {st.lift} would rest on lift {st.lift - 1}, which an earlier "
+                             "stage removed", f"{p}.lift",
+                      "place the lifts from the bottom up on lifts still in place.")
             placed = st.lift
         if st.kind == "load":
             if not st.loads:
@@ -568,6 +578,43 @@ def _check_water(model: Model) -> None:
             if key == "initial_excess_pore_pressures" and not 1 <= len(v) <= 2:
                 _fail(model, f"expected one value (uniform) or two (top and base), got "
                              f"{len(v)}", p, f"write {rule.example}, or one value.")
+
+
+def _check_removal(model: Model, i: int, st, placed: int, removed: set[int]) -> int:
+    """A stage of kind "remove" takes away what is in place: on a user mesh a region placed
+    by an earlier stage, on an embankment the top lift in place. Returns ``placed``."""
+    p = f"stages[{i + 1}]"
+    if model.section.kind == "mesh":
+        if st.region is None or st.lift is not None:
+            _fail(model, "on a user mesh a stage of kind 'remove' takes away a named region",
+                  f"{p}.region", "give region = \"NAME\", a region placed by an earlier stage "
+                                 "of kind \"lift\", instead of lift.")
+        earlier = model.stages[:i]
+        in_place = [s.region for s in earlier if s.kind == "lift"
+                    and s.region not in {r.region for r in earlier if r.kind == "remove"}]
+        if st.region not in in_place:
+            _fail(model, f"region {st.region!r} is not in place when this stage starts",
+                  f"{p}.region", "remove a region placed by an earlier stage of kind \"lift\" "
+                                 "and not removed since (in place: "
+                                 + (", ".join(map(repr, in_place)) or "none") + ").")
+        return placed
+    if st.region is not None:
+        _fail(model, "region takes away part of a user mesh; an embankment's lifts are removed "
+                     "by number", f"{p}.region", "use lift = N instead.")
+    in_place = sorted(set(range(1, placed + 1)) - removed)
+    if st.lift is None:
+        _fail(model, "a stage of kind 'remove' needs the lift it takes away", f"{p}.lift",
+              f"add lift = {in_place[-1]} (the top lift in place)." if in_place else
+              "place a lift first with a stage of kind \"lift\".")
+    if st.lift not in in_place:
+        _fail(model, f"lift {st.lift} is not in place when this stage starts", f"{p}.lift",
+              f"remove a lift placed by an earlier stage (in place: "
+              f"{', '.join(map(str, in_place)) or 'none'}).")
+    if st.lift != in_place[-1]:
+        _fail(model, f"lift {st.lift} lies under lift {in_place[-1]}, which is still in place",
+              f"{p}.lift", f"remove the lifts from the top down: lift {in_place[-1]} first.")
+    removed.add(st.lift)
+    return placed
 
 
 def _check_probes(model: Model) -> None:

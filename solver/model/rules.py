@@ -241,8 +241,8 @@ _DRAINAGE_RULES: dict[str, _Rule] = {
 _STAGE_RULES: dict[str, _Rule] = {
     "name": _r("text", 'name = "lift 1"'),
     "kind": _r("choice", 'kind = "consolidate"', choices=STAGE_KINDS),
-    # Zero only for a "load" stage (applied at once); the other kinds are checked against
-    # _POSITIVE_DURATION in checks.py.
+    # Zero only for a "load" or "remove" stage (made at once); the other kinds are checked
+    # against _POSITIVE_DURATION in checks.py.
     "duration": _r("time", 'duration = "60 days"', **_NONNEG),
     "lift": _r("int", "lift = 1", low=1.0, low_open=False),
     "region": _r("text", 'region = "fill"'),
@@ -257,8 +257,8 @@ _STAGE_RULES: dict[str, _Rule] = {
 
 _POSITIVE_DURATION = _r("time", 'duration = "60 days"', **_POS,
                         fix='give the stage a duration, e.g. duration = "60 days"; only a stage '
-                            'of kind "load" may last 0 days (its loads applied at once, felt '
-                            'undrained)')
+                            'of kind "load" or "remove" may last 0 days (the change made at '
+                            'once, felt undrained)')
 
 _TIME_STEP_RULES: dict[str, _Rule] = {
     "first_step": _r("time", 'first_step = "0.5 days"', **_POS),

@@ -264,15 +264,17 @@ class Stage:
 
     kind : "lift" (place ``lift`` number n of the embankment, or on a user mesh the named
     ``region``: its elements become active, stress-free, and their weight ramps on over the
-    duration), "load" (ramp the named loads/footings by ``factor`` over the duration: 1
-    applies, 0 removes, 0.5 halves), or "consolidate" (nothing changes).
+    duration), "remove" (take away a placed ``lift``, the top one in place, or ``region``:
+    its weight ramps off over the duration and its elements go at the end), "load" (ramp
+    the named loads/footings by ``factor`` over the duration: 1 applies, 0 removes, 0.5
+    halves), or "consolidate" (nothing changes).
     duration : days (for "consolidate" with ``until_degree``: the longest it may last); 0
-    only for "load": the loads change at once and are felt undrained.
+    only for "load" and "remove": the change is made at once and felt undrained.
     until_degree : stop a "consolidate" stage once the average degree of consolidation
     reaches this fraction (0.9 = 90 %).
     """
     name: str
-    kind: Literal["lift", "load", "consolidate"]
+    kind: Literal["lift", "remove", "load", "consolidate"]
     duration: float
     lift: int | None = None
     loads: list[str] = field(default_factory=list)
@@ -387,7 +389,7 @@ class Model:
 ANALYSES = ("plane strain", "axisymmetric")
 SECTION_KINDS = ("embankment", "footings", "ground", "mesh")
 MATERIAL_MODELS = ("linear elastic", "modified cam clay")
-STAGE_KINDS = ("lift", "load", "consolidate")
+STAGE_KINDS = ("lift", "remove", "load", "consolidate")
 STRENGTH_KINDS = ("drained", "undrained")
 LINE_KINDS = ("surface", "vertical", "line")
 MAX_LIFTS = 100          # more lifts than this is a typo, not a construction sequence
