@@ -173,6 +173,10 @@ def _run(args) -> int:
     for st in result.info.get("stages", []):
         if "until_degree" in st:
             print(f"stage {st['name']!r}: " + until_degree_text(st))
+    if model.output.residual_after is not None:
+        from .results.summary import probe_summary, residual_table
+        print(residual_table(probe_summary(result.probes,
+                                           residual_after=model.output.residual_after)))
     print(f"results in {out.resolve()}: results.xdmf (ParaView), probes.csv, lines.csv, "
           f"summary.json, comparison.csv, hand.json ({result.info['steps']} steps, "
           f"{result.info['wall_seconds']:.1f} s)")

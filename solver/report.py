@@ -535,9 +535,35 @@ def _run_html(run) -> str:
               p.get("time_to_90_percent_settlement_days"),
               p.get("largest_excess_pore_pressure_kPa"),
               p.get("time_of_largest_excess_pore_pressure_days")] for n, p in probes.items()])
+        out += _residual_html(run, probes)
     files = sorted(p.name for p in run.dir.iterdir() if p.is_file() and not p.name.startswith("."))
     out += f'<p class="note">Files in the run folder: {_e(", ".join(files))}.</p>'
     return out
+
+
+def _residual_html(run, probes: dict) -> str:
+    """The settlement still to come after the day the model names (``output.residual_after``,
+    e.g. paving), beside the final one, by finite elements and by hand."""
+    day = next((p.get("residual_after_days") for p in probes.values()
+                if p.get("residual_after_days") is not None), None)
+    if day is None:
+        return ""
+    rows = []
+    for n, p in probes.items():
+        hand = None
+        c = (run.hand or {}).get(n)
+        end = p.get("final_time_days")
+        if c is not None and end is not None and c["time_days"][-1] >= end * (1 - 1e-9):
+            s_h = np.interp([day, end], c["time_days"], c["settlement_m"])
+            hand = float(s_h[1] - s_h[0])
+        rows.append([n, p.get("final_settlement_m"), p.get("settlement_at_residual_start_m"),
+                     p.get("residual_settlement_m"), hand])
+    return (f"<h3>Settlement after day {_fmt(day)} (output.residual_after)</h3>" + _table(
+        ("probe", "settlement at the end (m)", f"settlement on day {_fmt(day)} (m)",
+         f"residual settlement after day {_fmt(day)} (m)", "residual by hand (m)"), rows)
+        + '<p class="note">Residual settlement: the settlement at the end of the record minus '
+          "that on the day, at every probe; by hand from the hand method's settlement history "
+          "between the same two times. A probe whose record ends before the day has none.</p>")
 
 
 # =============================================================================== report

@@ -217,7 +217,8 @@ class Runner:
         result = RunResult(np.array(hist_t), hist_stage, probes, lines, run_info, self.out_dir)
         if writer is not None:
             summary = {"run": run_info,
-                       "probes": probe_summary(probes, degree_end, info.get("t_peak"))}
+                       "probes": probe_summary(probes, degree_end, info.get("t_peak"),
+                                               model.output.residual_after)}
             writer.write_summary(summary)
             if self.model_text is not None:
                 writer.write_text("model.toml", self.model_text)

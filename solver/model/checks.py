@@ -117,6 +117,13 @@ def check_model(model: Model) -> None:
                      f"({ts.first_step:g} days)", "time_steps.max_step",
               "make max_step at least first_step, or leave it out (no cap).")
     _check_fields(model, model.output, "output", _OUTPUT_RULES)
+    end = sum(s.duration for s in model.stages)
+    day = model.output.residual_after
+    if day is not None and day > end * (1 + 1e-12):
+        _fail(model, f"residual_after ({day:g} days) is after the last stage ends ({end:g} "
+                     "days)", "output.residual_after",
+              "give a day within the stages, or add a stage of kind \"consolidate\" that "
+              "runs past it.")
     if model.stability is not None:
         _check_fields(model, model.stability, "stability", _STABILITY_RULES)
     check_strength(model)

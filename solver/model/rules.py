@@ -287,6 +287,10 @@ _LINE_RULES: dict[str, _Rule] = {
 _OUTPUT_RULES: dict[str, _Rule] = {
     "times": _r("list:time", 'times = ["30 days", "1 year", "5 years"]', **_NONNEG),
     "every_step": _r("bool", "every_step = false"),
+    "residual_after": _r("time", 'residual_after = "400 days"', **_NONNEG,
+                         fix="give the day (from the start of the first stage) after which the "
+                             "settlement still to come matters, e.g. residual_after = "
+                             "\"400 days\" for paving on day 400"),
 }
 
 _LIMIT_RULES: dict[str, _Rule] = {

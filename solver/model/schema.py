@@ -339,9 +339,11 @@ class Limits:
 @dataclass
 class Output:
     """times : days at which fields and line probes are written (besides every stage end);
-    every_step : write fields at every step (large files)."""
+    every_step : write fields at every step (large files); residual_after : a day (e.g. of
+    paving) after which the settlement still to come is reported at every probe."""
     times: list[float] = field(default_factory=list)
     every_step: bool = False
+    residual_after: float | None = None
 
 
 @dataclass

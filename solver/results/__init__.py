@@ -47,7 +47,7 @@ from .files import (CHECKPOINT_NAME, FIELDS_DIR, FORMAT, LINE_COLUMNS, LINES_NAM
                     XDMF_NAME, ResultsError, mesh_fingerprint)
 from .read import FieldSeries, field_step_files, read_fields, read_lines, read_probes
 from .summary import (NOT_REACHED, T50_T90, primary_settlement, primary_times, probe_summary,
-                      time_to_fraction)
+                      residual_settlement, time_to_fraction)
 from .writer import ResultWriter
 
 __all__ = [
@@ -56,5 +56,6 @@ __all__ = [
     "XDMF_NAME", "FieldSeries", "ResultWriter", "ResultsError", "field_step_files",
     "mesh_fingerprint", "probe_summary", "read_fields", "read_lines", "read_probes",
     "time_to_fraction", "T50_T90", "NOT_REACHED", "primary_settlement", "primary_times",
+    "residual_settlement",
 ]
 

@@ -70,9 +70,24 @@ def primary_times(t: np.ndarray, s: np.ndarray, primary: float | None) -> dict[s
     return out
 
 
+def residual_settlement(t: np.ndarray, s: np.ndarray, day: float) -> dict[str, Any]:
+    """The settlement on ``day`` (linear between the recorded times) and what is still to come
+    after it to the end of the record (m); None when the record does not reach that day."""
+    out: dict[str, Any] = {"residual_after_days": day, "settlement_at_residual_start_m": None,
+                           "residual_settlement_m": None}
+    if t.size and t[0] <= day <= t[-1] * (1 + 1e-12):
+        at = float(np.interp(day, t, s))
+        out["settlement_at_residual_start_m"] = at
+        out["residual_settlement_m"] = float(s[-1]) - at
+    return out
+
+
 def probe_summary(probes: dict[str, dict[str, np.ndarray]], degree_at_end: float | None = None,
-                  peak_time: float | None = None) -> dict[str, dict[str, Any]]:
-    """Per probe: final settlement, t50 and t90 (:data:`T50_T90`), largest excess pore pressure.
+                  peak_time: float | None = None, residual_after: float | None = None
+                  ) -> dict[str, dict[str, Any]]:
+    """Per probe: final settlement, t50 and t90 (:data:`T50_T90`), largest excess pore pressure,
+    and, given ``residual_after`` (a day, e.g. of paving), the settlement then and the residual
+    settlement after it (final minus the settlement on that day).
 
     Times are on the run's clock (days from its time zero), linearly interpolated between
     output times. ``degree_at_end``, ``peak_time``: the run's average degree of consolidation
@@ -86,7 +101,9 @@ def probe_summary(probes: dict[str, dict[str, np.ndarray]], degree_at_end: float
     probe -> {"final_time_days", "final_settlement_m", "primary_settlement_m",
     "time_to_50_percent_settlement_days", "time_to_90_percent_settlement_days", "t50_note",
     "t90_note", "largest_excess_pore_pressure_kPa", "largest_excess_pore_pressure_note",
-    "time_of_largest_excess_pore_pressure_days", "stage_of_largest_excess_pore_pressure"}
+    "time_of_largest_excess_pore_pressure_days", "stage_of_largest_excess_pore_pressure"}, and
+    with ``residual_after`` also "residual_after_days", "settlement_at_residual_start_m" and
+    "residual_settlement_m" (None when the record ends before that day).
     """
     out = {}
     for name, cols in probes.items():
@@ -124,5 +141,25 @@ def probe_summary(probes: dict[str, dict[str, np.ndarray]], degree_at_end: float
             res["largest_excess_pore_pressure_kPa"] = float(u[i])
             res["time_of_largest_excess_pore_pressure_days"] = float(t[i])
             res["stage_of_largest_excess_pore_pressure"] = str(stages[i])
+        if residual_after is not None:
+            res.update(residual_settlement(ts, ss, float(residual_after)))
         out[name] = res
     return out
+
+
+def residual_table(summary: dict[str, dict[str, Any]]) -> str | None:
+    """The residual settlement of a :func:`probe_summary` as text lines (None without one)."""
+    day = next((p.get("residual_after_days") for p in summary.values()
+                if p.get("residual_after_days") is not None), None)
+    if day is None:
+        return None
+
+    def mm(v):
+        return "-" if v is None else f"{1000 * v:,.1f}"
+    lines = [f"settlement after day {day:g} (output.residual_after), mm:",
+             f"  {'probe':16s} {'at the end':>12s} {f'on day {day:g}':>12s} {'residual':>12s}"]
+    for name, p in summary.items():
+        lines.append(f"  {name:16s} {mm(p.get('final_settlement_m')):>12s} "
+                     f"{mm(p.get('settlement_at_residual_start_m')):>12s} "
+                     f"{mm(p.get('residual_settlement_m')):>12s}")
+    return "\n".join(lines)
