@@ -144,6 +144,8 @@ def _run(args) -> int:
     from .runner import run
     from .model import dump_toml
     model = _load(args.model)
+    if args.times:
+        _add_output_times(args, model)
     # The model as read (units converted, paths resolved), so the run folder stands alone.
     text = (f"# The model as poroplane read it from {Path(args.model).resolve()}\n"
             "# (quantities in the default units, paths absolute).\n" + dump_toml(model))
@@ -213,10 +215,40 @@ def _stability(args) -> int:
     return 0
 
 
+def _add_output_times(args, model) -> None:
+    """``run --times``: store these times exactly (added to ``output.times``)."""
+    from .errors import InputError
+    from .plot_times import parse_times
+    if args.resume:
+        raise InputError("--times cannot change a run that is resumed (its steps are fixed)",
+                         field="--times", source=args.model,
+                         fix="resume without --times, or start the run afresh with them.")
+    end = sum(s.duration for s in model.stages)
+    times = parse_times(args.times)
+    for t in times:
+        if not 0.0 <= t <= end * (1 + 1e-12):
+            raise InputError(f"{t:g} days is outside the stages, which cover 0 to {end:g} "
+                             "days", field="--times", source=args.model,
+                             fix=f"give times from 0 to {end:g} days.")
+    model.output.times = sorted(set(model.output.times) | set(times))
+
+
+def _asked_times(args) -> list[float] | None:
+    """The stored outputs for ``--times`` (None when not given), saying which each became."""
+    if not args.times:
+        return None
+    from .plot_times import resolve_run_times
+    times, lines = resolve_run_times(Path(args.results), args.times)
+    for line in lines:
+        print(f"time {line}")
+    return times
+
+
 def _plot(args) -> int:
     from .plots import plot_command
+    times = _asked_times(args)
     with step("plotting", args.results):
-        paths = plot_command(Path(args.results), times=args.times)
+        paths = plot_command(Path(args.results), times=times)
     for p in paths:
         print(p)
     print(CAUTION)
@@ -225,8 +257,9 @@ def _plot(args) -> int:
 
 def _report(args) -> int:
     from .report import report_command
+    times = _asked_times(args)
     with step("writing the report", args.results):
-        path = report_command(Path(args.results))
+        path = report_command(Path(args.results), times=times)
     print(f"wrote {path.resolve()} (self-contained; open it in a browser)")
     print(CAUTION)
     return 0
@@ -305,12 +338,18 @@ def build_parser() -> argparse.ArgumentParser:
     r.add_argument("--quiet", action="store_true", help="no progress bar")
     r.add_argument("--no-plots", action="store_true",
                    help="skip the default plots and pictures after the run")
+    r.add_argument("--times", nargs="+", metavar="TIME",
+                   help="also store the fields and lines at these times exactly (added to "
+                        "[output] times): days, or with units (\"2 years\")")
 
+    times_help = ("times for the isochrones, troughs, inclinometer and pictures: days, or "
+                  "with units (\"2 years\"; commas separate several); each is drawn at the "
+                  "output the run stored for it, and the command says which")
     pl = command("plot", _plot, "plots and section pictures of a run (PNG)", results)
-    pl.add_argument("--times", type=float, nargs="+", metavar="DAYS",
-                    help="times (days) for isochrones, troughs and pictures")
+    pl.add_argument("--times", nargs="+", metavar="TIME", help=times_help)
 
-    command("report", _report, "one self-contained HTML report of a run", results)
+    rp = command("report", _report, "one self-contained HTML report of a run", results)
+    rp.add_argument("--times", nargs="+", metavar="TIME", help=times_help)
     sb = command("stability", _stability,
                  "factor of safety against a slip at stored times of a run", results)
     sb.add_argument("--times", type=float, nargs="+", metavar="DAYS",

@@ -275,13 +275,14 @@ def field_scale(values: np.ndarray, n: int = 12) -> Scale:
     return Scale(lv, _band_colours(lv, signed), signed)
 
 
-def exaggeration_factor(disp: np.ndarray, height: float) -> float:
+def exaggeration_factor(disp: np.ndarray, height: float, fraction: float = 0.05) -> float:
     """A round factor (1, 2, 5 x 10^k, never below 1) that makes the largest displacement
-    at most about 5 % of the height of the section."""
+    at most about ``fraction`` of ``height`` (the section's, or the picture window's smaller
+    side)."""
     d = float(np.nanmax(np.hypot(disp[..., 0], disp[..., 1]))) if disp.size else 0.0
     if not d > 0:
         return 1.0
-    raw = 0.05 * height / d
+    raw = fraction * height / d
     if raw <= 1.0:
         return 1.0
     p = 10.0 ** math.floor(math.log10(raw))
@@ -472,8 +473,11 @@ def _outline_note(sec: Section, keep: np.ndarray, model) -> str:
     return "; ".join(parts)
 
 
-def mesh_picture(sec: Section, out: Path, model=None, probes=None, lines=None) -> Path:
-    """The mesh: elements (their 6-node edges), regions coloured, a legend of region names."""
+def mesh_picture(sec: Section, out: Path, model=None, probes=None, lines=None,
+                 window: tuple[float, float, float, float] | None = None,
+                 file_stem: str = "mesh") -> Path:
+    """The mesh: elements (their 6-node edges), regions coloured, a legend of region names;
+    ``window`` (x0, x1, y0, y1, m) crops it (:func:`solver.picture_view.loaded_window`)."""
     from matplotlib.patches import Patch
     tris = _split_p2(sec.cells)
     reg4 = np.tile(sec.region, 4)
@@ -495,20 +499,27 @@ def mesh_picture(sec: Section, out: Path, model=None, probes=None, lines=None) -
     meshes.append((_lines_polydata(sec.points, e[np.sort(idx)], 0.01),
                    dict(color=(0.25, 0.25, 0.25), line_width=1.0)))
     meshes += _outline_meshes(sec, sec.points, np.ones(len(sec.cells), bool), 0.02)
-    img, view = _render(meshes, _padded(sec.points))
+    img, view = _render(meshes, _padded(sec.points) if window is None else _padded_window(window))
     n_nodes = len(sec.points)
-    fig, ax = _frame(img, view, f"Mesh: {len(sec.cells):,} triangles (6-node), {n_nodes:,} "
-                     f"nodes, {len(sec.region_names)} regions", _xlabel(model), extra_w=1.9)
-    for name, (x, y) in (probes or {}).items():
+    title = (f"Mesh: {len(sec.cells):,} triangles (6-node), {n_nodes:,} nodes, "
+             f"{len(sec.region_names)} regions")
+    if window is not None:
+        title += f"\nthe loaded zone, x = {window[0]:g} to {window[1]:g} m"
+        inside = lambda x, y: view.x0 <= x <= view.x1 and view.y0 <= y <= view.y1  # noqa: E731
+        probes = {n: xy for n, xy in (probes or {}).items() if inside(*xy)}
+    fig, ax = _frame(img, view, title, _xlabel(model), extra_w=1.9)
+    for pname, (x, y) in (probes or {}).items():
         ax.plot([x], [y], marker="o", ms=5, mfc="white", mec="black", zorder=3)
         up = y >= -1e-9          # on the surface: slanted up, so neighbours do not collide
-        ax.annotate(name, (x, y), xytext=(3, 4) if up else (5, -3), textcoords="offset points",
+        ax.annotate(pname, (x, y), xytext=(3, 4) if up else (5, -3), textcoords="offset points",
                     fontsize=7.5, rotation=35 if up else 0, rotation_mode="anchor",
                     ha="left", va="bottom" if up else "top",
                     bbox=dict(boxstyle="square,pad=0.1", fc="white", ec="none", alpha=0.8))
-    for name, (xs, ys) in (lines or {}).items():
+    for lname, (xs, ys) in (lines or {}).items():
         ax.plot(xs, ys, color="#b0202a", lw=1.4, ls="--", zorder=3)
-        ax.annotate(name, (xs[-1], ys[-1]), xytext=(4, -11), textcoords="offset points",
+        if window is not None and not (view.x0 <= xs[-1] <= view.x1):
+            continue                     # the line leaves the window: its name stays out
+        ax.annotate(lname, (xs[-1], ys[-1]), xytext=(4, -11), textcoords="offset points",
                     fontsize=7.5, color="#b0202a",
                     bbox=dict(boxstyle="square,pad=0.1", fc="white", ec="none", alpha=0.8))
     load_handles = _draw_loads(ax, sec, sec.points, np.ones(len(sec.cells), bool), model)
@@ -527,14 +538,24 @@ def mesh_picture(sec: Section, out: Path, model=None, probes=None, lines=None) -
     note = "Thin lines: element edges; " + _outline_note(sec, allk, model) + "."
     if sec.lift_ids:
         note += " Each lift is a region, placed by its stage."
-    return _finish(fig, out / "mesh.png", note)
+    if window is not None:
+        note += " Cropped to the loaded zone; mesh.png shows the whole section."
+    return _finish(fig, out / f"{file_stem}.png", note)
+
+
+def _padded_window(window: tuple[float, float, float, float], pad: float = 0.02):
+    x0, x1, y0, y1 = window
+    d = pad * max(x1 - x0, y1 - y0)
+    return x0 - d, x1 + d, y0 - d, y1 + d
 
 
 def field_picture(sec: Section, out: Path, *, values: np.ndarray, scale: Scale, quantity: str,
                   unit: str, file_stem: str, time_days: float, stage: str, keep: np.ndarray,
                   disp: np.ndarray | None = None, factor: float = 0.0, model=None,
-                  note: str = "") -> Path:
-    """Contour bands of one nodal field over the section at one time."""
+                  note: str = "", window: tuple[float, float, float, float] | None = None
+                  ) -> Path:
+    """Contour bands of one nodal field over the section at one time (over ``window``, x0,
+    x1, y0, y1 in m, when given: the loaded zone)."""
     from matplotlib.cm import ScalarMappable
     from matplotlib.colors import BoundaryNorm
     xy = sec.points if disp is None or factor == 0 else sec.points + factor * disp
@@ -560,12 +581,15 @@ def field_picture(sec: Section, out: Path, *, values: np.ndarray, scale: Scale, 
                        dict(color=(0.55, 0.55, 0.55), line_width=1.5)))
     meshes += _outline_meshes(sec, xy, keep, 0.02)
     both = np.vstack([xy[used], sec.points[used]])
-    img, view = _render(meshes, _padded(both))
+    if window is not None:     # the window, and the deformed fill above it
+        window = (window[0], window[1], window[2], max(window[3], float(both[:, 1].max())))
+    img, view = _render(meshes, _padded(both) if window is None else _padded_window(window))
     when = f"t = {time_days:,.4g} days" + (f" ({time_days / 365.25:.1f} years)"
                                           if time_days >= 730 else "")
     title = f"{quantity.capitalize()} at {when}, stage '{stage}'"
     if disp is not None and factor:
-        title += f"\ndeformed mesh, displacements exaggerated {factor:g} times"
+        from .picture_view import exaggeration_words
+        title += "\n" + exaggeration_words(factor)
     fig, ax = _frame(img, view, title, _xlabel(model), extra_h=1.0)
     _draw_loads(ax, sec, xy, keep, model)
     sm = ScalarMappable(norm=BoundaryNorm(lv, scale.cmap.N), cmap=scale.cmap)
@@ -576,6 +600,9 @@ def field_picture(sec: Section, out: Path, *, values: np.ndarray, scale: Scale, 
     text = "Bands between the level lines; " + _outline_note(sec, keep, model) + "."
     if disp is not None and factor:
         text += " Grey line: the outline before deformation."
+    if window is not None:
+        text += (f" Cropped to the loaded zone (x = {window[0]:g} to {window[1]:g} m); "
+                 "mesh.png shows the whole section.")
     if note:
         text += " " + note
     return _finish(fig, out / f"{file_stem}.png", text)
@@ -642,7 +669,11 @@ def make_pictures(run_dir: str | Path, out_dir: str | Path | None = None,
     if model is not None:
         probes = {p.name: (p.x, p.y) for p in model.probes}
         lines = {ln.name: ([ln.x0, ln.x1], [ln.y0, ln.y1]) for ln in model.lines}
+    from .picture_view import loaded_window
+    window = loaded_window(model, sec.points)
     paths = [mesh_picture(sec, out, model, probes, lines)]
+    if window is not None:
+        paths.append(mesh_picture(sec, out, model, probes, lines, window, "mesh_loaded_zone"))
     fs = read_fields(d, ["excess_pore_pressure_kPa", "settlement_m", "displacement_m"])
     if len(fs.times) == 0:
         return paths
@@ -659,11 +690,15 @@ def make_pictures(run_dir: str | Path, out_dir: str | Path | None = None,
     def used_values(a):
         return np.concatenate([a[i][np.unique(sec.cells[keeps[i]])] for i in idx])
 
-    height = float(np.ptp(sec.points[:, 1]))
+    # The exaggeration shows the largest displacement drawn as about 8 % of the smaller side
+    # of the picture's window (the loaded zone when cropped): visible, never a caricature.
+    (x0, y0), (x1, y1) = sec.points.min(axis=0), sec.points.max(axis=0)
+    if window is not None:
+        x0, x1, y0, y1 = window
     factor = 0.0
     if disp is not None and deformed is not False:
-        factor = (float(deformed) if not isinstance(deformed, bool)
-                  else exaggeration_factor(np.concatenate([disp[i] for i in idx]), height))
+        factor = (float(deformed) if not isinstance(deformed, bool) else exaggeration_factor(
+            np.concatenate([disp[i] for i in idx]), min(x1 - x0, y1 - y0), fraction=0.08))
     if u is not None:       # a scale per time: late, small pressures stay readable
         for i in idx:
             sc = field_scale(u[i][np.unique(sec.cells[keeps[i]])])
@@ -671,7 +706,7 @@ def make_pictures(run_dir: str | Path, out_dir: str | Path | None = None,
                 sec, out, values=u[i], scale=sc, quantity="excess pore pressure", unit="kPa",
                 file_stem=f"excess_pore_pressure_{_stem_time(fs.times[i])}",
                 time_days=float(fs.times[i]), stage=fs.stages[i], keep=keeps[i], model=model,
-                note="Excess pore pressure: above the steady pore pressure at the start "
+                window=window, note="Excess pore pressure: above the steady pore pressure at the start "
                      "(hydrostatic unless piezometric levels are given), positive in compression"
                      + ("; zero in the free-draining fill" if sec.lift_ids else "")
                      + ". The colour scale is this picture's own."))
@@ -683,7 +718,7 @@ def make_pictures(run_dir: str | Path, out_dir: str | Path | None = None,
                 file_stem=f"settlement_{_stem_time(fs.times[i])}",
                 time_days=float(fs.times[i]), stage=fs.stages[i], keep=keeps[i],
                 disp=None if disp is None else disp[i], factor=factor, model=model,
-                note="Settlement: vertical displacement, positive downward (negative: heave). "
+                window=window, note="Settlement: vertical displacement, positive downward (negative: heave). "
                      "One colour scale for all settlement pictures of this run; the grey band "
                      "holds zero."))
     return paths

@@ -76,8 +76,8 @@ def plot_settlement_time(run: RunData, out: Path) -> list[Path]:
                                   "settlement (m, downward)", down=True)
     fig.suptitle(f"Settlement at the probes: {run.title}", fontsize=11.5)
     return _finish(run, fig, out / "settlement_time.png",
-                   "Shaded: construction stages (lifts, loads); dotted lines: stage starts. A "
-                   "probe inside the ground moves with the soil at its depth.")
+                   "Shaded: construction stages (lifts placed or removed, loads); dotted lines: "
+                   "stage starts. A probe inside the ground moves with the soil at its depth.")
 
 
 def plot_pore_pressure_time(run: RunData, out: Path) -> list[Path]:

@@ -1,9 +1,9 @@
 """Profiles of a run at chosen output times: isochrones of excess pore pressure along the
 vertical lines (regions of the mesh marked) and settlement troughs along the surface lines
-(loads sketched above).
+(loads sketched above), at the times :func:`profile_indices` picks.
 
 Lengths in m, pressures in kPa; settlement positive downward and drawn downward. The output
-times drawn are chosen by :func:`solver.plot_style.pick_times`.
+times drawn are chosen by :func:`profile_indices`.
 """
 
 from __future__ import annotations
@@ -15,8 +15,9 @@ import numpy as np
 
 from . import plot_style as style
 from .plot_data import RunData, surface_probes
+from .plot_times import default_profile_times
 
-__all__ = ["plot_isochrones", "plot_troughs"]
+__all__ = ["plot_isochrones", "plot_troughs", "profile_indices"]
 
 
 def _mesh_arrays(run_dir: Path):
@@ -56,9 +57,42 @@ def _regions_along(run: RunData, x: np.ndarray, y: np.ndarray):
     return out
 
 
-def _at_times(profs: list[dict], times) -> list[tuple[object, dict, str]]:
-    """The profiles to draw, at the output times nearest ``times``: (colour, profile, label)."""
-    idx = style.pick_times([p["time_days"] for p in profs], times)
+def _peak_time(run: RunData) -> float | None:
+    """The output time of the largest excess pore pressure along any line (else at any probe,
+    from the summary)."""
+    best, when = -np.inf, None
+    for profs in run.lines.values():
+        for p in profs:
+            u = np.asarray(p["excess_pore_pressure_kPa"], float)
+            if u.size and np.isfinite(u).any() and np.nanmax(u) > best:
+                best, when = float(np.nanmax(u)), float(p["time_days"])
+    if when is None or best <= 0.0:
+        probes = (run.summary or {}).get("probes") or {}
+        peaks = [(p.get("largest_excess_pore_pressure_kPa"),
+                  p.get("time_of_largest_excess_pore_pressure_days")) for p in probes.values()]
+        peaks = [pk for pk in peaks if pk[0] is not None and pk[1] is not None]
+        if peaks:
+            when = float(max(peaks)[1])
+    return when
+
+
+def profile_indices(run: RunData, profs: list[dict], times=None) -> list[int]:
+    """The profiles to draw: at the output times nearest ``times``, else by default the stage
+    ends, the largest excess pore pressure and the last output, near-duplicates merged
+    (:func:`solver.plot_times.default_profile_times`)."""
+    t = [p["time_days"] for p in profs]
+    if times is not None and len(times):
+        return style.pick_times(t, times)
+    peak = _peak_time(run)
+    extra = run.model.output.times if run.model is not None else ()
+    return default_profile_times(t, [st.end_days for st in run.stages],
+                                 None if peak is None else int(np.argmin(np.abs(
+                                     np.asarray(t) - peak))), extra)
+
+
+def _at_times(run: RunData, profs: list[dict], times) -> list[tuple[object, dict, str]]:
+    """The profiles to draw (:func:`profile_indices`): (colour, profile, label)."""
+    idx = profile_indices(run, profs, times)
     return [(c, profs[i], f"{style.fmt_days(profs[i]['time_days'])}  ({profs[i]['stage']})")
             for c, i in zip(style.time_colours(len(idx)), idx)]
 
@@ -69,7 +103,7 @@ def plot_isochrones(run: RunData, out: Path, times=None) -> list[Path]:
     for name, profs in run.lines_of("vertical"):
         fig = style.figure(9.6, 7.6)
         ax = fig.subplots()
-        for c, p, label in _at_times(profs, times):
+        for c, p, label in _at_times(run, profs, times):
             ax.plot(p["excess_pore_pressure_kPa"], p["y_m"], color=c, lw=1.7, marker="o",
                     ms=2.5, label=label)
         p0 = profs[0]
@@ -174,7 +208,7 @@ def plot_troughs(run: RunData, out: Path, times=None) -> list[Path]:
             _load_sketch(top, run, x_lo, x_hi)
         else:
             top, ax = None, fig.subplots()
-        for c, p, label in _at_times(profs, times):
+        for c, p, label in _at_times(run, profs, times):
             ax.plot(p["x_m"], p["settlement_m"], color=c, lw=1.7, label=label)
         surf = [(n, x) for n, x in surface_probes(run) if x_lo - 1e-9 <= x <= x_hi + 1e-9]
         for k, (n, xp) in enumerate(surf):

@@ -30,7 +30,7 @@ MAX_PROFILES = 8            # profiles on one figure before the legend gets unre
 _PROBE_COLOURS = ("#1f5fa8", "#d1731b", "#2b8a3e", "#b8323a", "#6a4c9c", "#8c6239",
                   "#c2509b", "#5a5a5a", "#9a9a1f", "#1b9aaa")  # dark enough on white
 _STAGE_LINE = "#8a8a8a"
-_BUILD_SHADE = "#ececec"    # construction stages (lifts and loads)
+_BUILD_SHADE = "#ececec"    # construction stages (lifts placed or removed, loads)
 EPS_TIME = 1e-9
 
 

@@ -19,13 +19,15 @@ from .plot_data import RunData, StageSpan, hand_curves, load_run, surface_probes
 from .plot_histories import (degree_of_consolidation, differential_histories,
                              plot_degree_time, plot_differential, plot_pore_pressure_time,
                              plot_settlement_time)
+from .plot_inclinometer import plot_inclinometer
 from .plot_profiles import plot_isochrones, plot_troughs
 from .plot_style import DEFAULT_DPI, MAX_PROFILES, pick_times
 
 __all__ = ["RunData", "StageSpan", "load_run", "make_plots", "plots_of", "plot_command",
            "pick_times", "hand_curves", "differential_histories", "surface_probes",
            "degree_of_consolidation", "plot_settlement_time", "plot_pore_pressure_time",
-           "plot_degree_time", "plot_isochrones", "plot_troughs", "plot_differential",
+           "plot_degree_time", "plot_isochrones", "plot_troughs", "plot_inclinometer",
+           "plot_differential",
            "DEFAULT_DPI", "MAX_PROFILES"]
 
 PLOTS_DIR = "plots"
@@ -40,8 +42,10 @@ def make_plots(run_dir: str | Path, out_dir: str | Path | None = None,
     ----------
     run_dir : folder written by a run (``poroplane run MODEL -o DIR``).
     out_dir : where the PNGs go; ``run_dir/plots`` by default.
-    times : days at which to draw the profiles (isochrones, troughs): the nearest output time
-        to each. None: every output time (at most eight, spread evenly).
+    times : days at which to draw the profiles (isochrones, troughs, the inclinometer): the
+        nearest output time to each. None: the stage ends, the largest excess pore pressure
+        and the last output, near-duplicates merged
+        (:func:`solver.plot_profiles.profile_indices`).
     """
     return plots_of(load_run(run_dir), out_dir, times)
 
@@ -57,6 +61,7 @@ def plots_of(run: RunData, out_dir: str | Path | None = None,
     paths += plot_degree_time(run, out)
     paths += plot_isochrones(run, out, times)
     paths += plot_troughs(run, out, times)
+    paths += plot_inclinometer(run, out, times)
     paths += plot_differential(run, out)
     return paths
 

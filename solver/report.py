@@ -709,6 +709,7 @@ def write_report(run_dir: str | Path, *, validation: dict | str | Path | bool | 
     return out
 
 
-def report_command(run_dir: str | Path) -> Path:
-    """What ``poroplane report DIR`` does: ``DIR/report.html``."""
-    return write_report(run_dir)
+def report_command(run_dir: str | Path, times: Sequence[float] | None = None) -> Path:
+    """What ``poroplane report DIR [--times ...]`` does: ``DIR/report.html``; ``times``
+    (days, stored outputs) for the profiles and pictures."""
+    return write_report(run_dir, times=times)

@@ -90,7 +90,8 @@ def test_every_plot_is_made_and_is_a_real_picture(run_dir, plot_paths):
     names = {p.name for p in plot_paths}
     assert names == {"settlement_time.png", "pore_pressure_time.png",
                      "degree_of_consolidation.png", "isochrones_centre_line.png",
-                     "trough_ground_surface.png", "differential_settlement.png"}
+                     "trough_ground_surface.png", "inclinometer.png",
+                     "differential_settlement.png"}
     for p in plot_paths:
         assert p.parent == run_dir / "plots"
         assert_picture(p)

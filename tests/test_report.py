@@ -104,8 +104,8 @@ def test_report_holds_the_inputs_with_units(report):
 
 def test_every_embedded_image_decodes_and_is_a_picture(report):
     images = decoded_images(report.read_text(encoding="utf-8"))
-    # the mesh, one pressure and one settlement picture, six plots
-    assert len(images) == 9
+    # the mesh, one pressure and one settlement picture, seven plots (the inclinometer too)
+    assert len(images) == 10
     for rgb in images:
         assert rgb.std() > 8.0
         assert n_colours(rgb) > 40
@@ -127,7 +127,7 @@ def test_report_renders_in_headless_chromium(report, tmp_path):
     assert heads == list(HEADINGS)
     m = re.search(r'data-images="(\d+)/(\d+)"', dom)
     assert m, "the load event did not fire in the browser"
-    assert m.group(1) == m.group(2) == "9"
+    assert m.group(1) == m.group(2) == "10"
     assert 'id="caution-box"' in dom
 
     shot = tmp_path / "page.png"
