@@ -37,7 +37,8 @@ def fill_column(tmp_path: Path, clay: Material, probes, crust: bool = False,
     model = Model(
         title="a fill placed and removed on a column (invented)", materials=mats,
         section=Section(kind="mesh", mesh_file=str(path), regions={n: n for n in mats}),
-        water=Water(table_depth=0.0),
+        # the water table below the ground: the fill never sinks below it (no submergence)
+        water=Water(table_depth=0.25),
         drainage=Drainage(drained_edges=["interface_1"], fixed_edges=["bottom"],
                           roller_edges=["left", "right"]),
         stages=[Stage("place", "lift", 1.0, region="fill"),
@@ -118,7 +119,7 @@ def embankment(clay: Material, crest: float = 400.0) -> Model:
         layers=[Layer("clay", "clay", 4.0)],
         section=Section(kind="embankment", half=True, mesh_size=1.0,
                         embankment=Embankment(crest, 2.0, 2.0, [1.0, 1.0], "fill")),
-        water=Water(table_depth=0.0),
+        water=Water(table_depth=0.5),          # no submergence of the fill
         drainage=Drainage(top=True, base=True),
         stages=[Stage("lift 1", "lift", 10.0, lift=1), Stage("settle", "consolidate", LONG),
                 Stage("lift 2", "lift", 10.0, lift=2), Stage("wait", "consolidate", LONG),
