@@ -111,6 +111,9 @@ def _check(args) -> int:
         print(f"    {st.name:24s} {what:28s} {st.duration:10,.1f} days{extra}")
     print(f"  probes        {', '.join(sim.probe_names) or '(none)'}")
     print(f"  lines         {', '.join(ln.name for ln in model.lines) or '(none)'}")
+    if sim.oedometer_moduli:
+        from .oedometer_stiffness import moduli_table
+        print(moduli_table(sim.oedometer_moduli))
     for w in _warnings(model):
         print(f"  warning: {w}")
     print("Model is valid; nothing was solved.")
@@ -175,6 +178,9 @@ def _run(args) -> int:
     for st in result.info.get("stages", []):
         if "until_degree" in st:
             print(f"stage {st['name']!r}: " + until_degree_text(st))
+    if sim.oedometer_moduli:
+        from .oedometer_stiffness import moduli_table
+        print(moduli_table(sim.oedometer_moduli))
     if model.output.residual_after is not None:
         from .results.summary import probe_summary, residual_table
         print(residual_table(probe_summary(result.probes,

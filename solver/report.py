@@ -345,6 +345,18 @@ def _model_html(model, run) -> str:
     parts = []
     parts.append("<h3>Section</h3>" + _section_html(model))
     parts.append("<h3>Layers (from the ground surface down)</h3>" + _layers_html(model))
+    moduli = ((run.summary or {}).get("oedometer_moduli") or []) if run is not None else []
+    if moduli:
+        parts.append("<h3>Constrained modulus from the oedometer (stiffness_from_oedometer)</h3>"
+                     + _table(("layer", "sublayer top (m)", "sublayer base (m)",
+                               "sigma'_v0 (kPa)", "sigma'_v final (kPa)",
+                               "sigma'_p (kPa)", "oedometer line", "E_oed used (kPa)"),
+                              [[m["layer"], m["top_m"], m["bottom_m"], m["sigma_v0_kPa"],
+                                m["sigma_v_final_kPa"], m["preconsolidation_kPa"], m["line"],
+                                m["constrained_modulus_kPa"]] for m in moduli])
+                     + '<p class="note">Each sublayer\'s secant modulus over the stress range '
+                       "the load imposes (under the centre of the load, by the hand method); "
+                       "the finite elements of the layer take these values by depth.</p>")
     parts.append(_material_tables(model))
     w, dr = model.water, model.drainage
     parts.append("<h3>Water and drainage</h3>" + _kv([

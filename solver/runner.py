@@ -219,6 +219,10 @@ class Runner:
             summary = {"run": run_info,
                        "probes": probe_summary(probes, degree_end, info.get("t_peak"),
                                                model.output.residual_after)}
+            if sim.oedometer_moduli:       # the moduli the FE took from the oedometer
+                from .oedometer_stiffness import moduli_csv, moduli_rows
+                summary["oedometer_moduli"] = moduli_rows(sim.oedometer_moduli)
+                writer.write_text("oedometer_moduli.csv", moduli_csv(sim.oedometer_moduli))
             writer.write_summary(summary)
             if self.model_text is not None:
                 writer.write_text("model.toml", self.model_text)

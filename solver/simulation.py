@@ -57,14 +57,20 @@ class Ramp:
         return self.v[k] + (self.v[k + 1] - self.v[k]) * (t - t0) / (t1 - t0)
 
 
-def fe_material(m: Material, gamma_w: float) -> ElasticMaterial:
+def fe_material(m: Material, gamma_w: float,
+                constrained_modulus: float | None = None) -> ElasticMaterial:
     """The linear skeleton of a model material. For a Modified Cam Clay material it is a
-    stand-in carrying the hydraulic properties (the Newton path uses the real tangent)."""
+    stand-in carrying the hydraulic properties (the Newton path uses the real tangent).
+    ``constrained_modulus`` (kPa) stands in for the material's own where its stiffness comes
+    from the oedometer (the reference each element's factor multiplies)."""
     kw = dict(permeability_x=m.permeability_x, permeability_y=m.permeability_y,
               biot_coefficient=m.biot_coefficient, storage=m.storage,
               unit_weight=m.unit_weight, name=m.name)
     if m.model == "modified cam clay":
         return ElasticMaterial(1000.0, m.poisson_ratio, **kw)
+    if constrained_modulus is not None:
+        return ElasticMaterial.from_constrained_modulus(constrained_modulus, m.poisson_ratio,
+                                                        **kw)
     if m.youngs_modulus is not None:
         return ElasticMaterial(m.youngs_modulus, m.poisson_ratio, **kw)
     if m.constrained_modulus is not None:
@@ -98,7 +104,8 @@ class Simulation:
                                    tractions=self.tractions, plates=self.plates,
                                    drained_regions=self.fill_regions,
                                    body_forces=self.body_forces, active=self.active0,
-                                   gamma_w=model.water.unit_weight)
+                                   gamma_w=model.water.unit_weight,
+                                   stiffness_scale=self.stiffness_scale)
         self._initial_state()
         self._probes()
         self.nonlinear = any(mat.model != "linear elastic"
@@ -150,6 +157,9 @@ class Simulation:
                 states[r] = cc.initial_state(s0, pc)
             else:
                 mats[r] = self.fe_materials[r]
+                if self.stiffness_scale is not None:     # a modulus per element
+                    from .materials.elastic import ScaledElastic
+                    mats[r] = ScaledElastic(mats[r], np.repeat(self.stiffness_scale[e], nq))
                 states[r] = s0.copy()
         self.stepper = NewtonStepSolver(pb, mats, states, stress0, backend=self.backend)
         return self.stepper
@@ -186,7 +196,13 @@ class Simulation:
                                  field="section.regions", source=m.source,
                                  fix=f"use one of {sorted(m.materials)}.")
         self.region_material = {r: m.materials[region_mat[r]] for r in mesh.region_names}
-        self.fe_materials = {r: fe_material(mat, m.water.unit_weight)
+        # Layers whose stiffness comes from the oedometer: a modulus per element
+        # (solver.oedometer_stiffness), as a reference material times a factor.
+        from .oedometer_stiffness import element_moduli, oedometer_moduli
+        self.oedometer_moduli = oedometer_moduli(m)
+        self.stiffness_scale, reference = (element_moduli(m, mesh, self.oedometer_moduli)
+                                           if self.oedometer_moduli else (None, {}))
+        self.fe_materials = {r: fe_material(mat, m.water.unit_weight, reference.get(r))
                              for r, mat in self.region_material.items()}
         if m.section.kind == "mesh":
             self.lift_regions = [st.region for st in m.stages if st.kind == "lift"]

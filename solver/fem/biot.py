@@ -118,6 +118,8 @@ class BiotProblem:
     active : (n_elements,) bool, the elements present now (None: all). Change it with
         :meth:`activate`; nodes that belong to no active element are held fixed.
     gamma_w : unit weight of water, kN/m3.
+    stiffness_scale : (n_elements,) factor on each element's elasticity matrix (a modulus
+        per element, e.g. from the oedometer); None: the materials' own.
     """
 
     mesh: Mesh
@@ -131,6 +133,7 @@ class BiotProblem:
     body_forces: list[BodyForce] = field(default_factory=list)
     active: np.ndarray | None = None
     gamma_w: float = GAMMA_W
+    stiffness_scale: np.ndarray | None = None
 
     def __post_init__(self):
         self.disc = Discretisation(self.mesh, self.analysis)
@@ -274,6 +277,8 @@ class BiotProblem:
         ne = self.mesh.n_elements
         Ds = np.stack([self.materials[n].elasticity_matrix() for n in self.mesh.region_names])
         self.D = Ds[self.mesh.region]      # (ne, 4, 4)
+        if self.stiffness_scale is not None:       # a modulus per element
+            self.D = self.D * np.asarray(self.stiffness_scale, float)[:, None, None]
         on = self.active.astype(float)
         Ke = d.stiffness_blocks(self.D * on[:, None, None])
         Qe = d.coupling_blocks(self._per_element("biot_coefficient") * on)

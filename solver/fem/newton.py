@@ -113,7 +113,7 @@ class NewtonStepSolver:
             if isinstance(st, np.ndarray):                     # linear elastic region
                 inc, D, _ = mat.update(None, de)
                 s_new = st + inc
-                tangent[e] = D
+                tangent[e] = D if D.ndim == 2 else D.reshape(len(e), self.nq, 4, 4)
                 trial[r] = s_new
             else:
                 s_new, T, trial[r] = mat.update(st, de)

@@ -111,3 +111,19 @@ class ElasticMaterial:
         """Stress increment and tangent at all points: (npts, 4) -> (npts, 4), (4, 4)."""
         D = self.elasticity_matrix()
         return strain_increment @ D.T, D, state
+
+
+@dataclass
+class ScaledElastic:
+    """A linear elastic skeleton whose stiffness varies from point to point: ``base``'s
+    elasticity matrix times ``scale`` (npts,) (a constrained modulus per element taken from
+    the oedometer, :mod:`solver.oedometer_stiffness`), for the incremental Newton path."""
+
+    base: ElasticMaterial
+    scale: np.ndarray
+
+    def update(self, state, strain_increment: np.ndarray):
+        """Stress increment (npts, 4) and tangent (npts, 4, 4) at all points."""
+        D = self.base.elasticity_matrix()
+        s = np.asarray(self.scale, float)
+        return (strain_increment @ D.T) * s[:, None], D[None] * s[:, None, None], state

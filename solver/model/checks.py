@@ -149,7 +149,9 @@ def _check_materials(model: Model) -> None:
         oed = _join(path, "oedometer")
         _check_fields(model, m.oedometer, oed, _OEDOMETER_RULES)
         _check_undrained(model, m, _join(path, "undrained"))
-        if m.model == "linear elastic":
+        if m.stiffness_from_oedometer:
+            _check_oedometer_stiffness(model, m, path)
+        elif m.model == "linear elastic":
             if m.youngs_modulus is None and m.constrained_modulus is None:
                 _fail(model, "a linear elastic material needs a stiffness",
                       _join(path, "youngs_modulus"),
@@ -206,6 +208,32 @@ def _check_undrained(model: Model, m: Material, path: str) -> None:
         _fail(model, f"{'strength' if missing == 'modulus_ratio' else 'modulus_ratio'} is "
                      f"given without {missing}", _join(path, missing),
               "give both strength (s_u) and modulus_ratio (E_u / s_u), or modulus (E_u) alone.")
+
+
+def _check_oedometer_stiffness(model: Model, m: Material, path: str) -> None:
+    """A linear elastic layer whose modulus comes from its oedometer data needs those data,
+    no modulus of its own, and layers for the hand method to read."""
+    flag = _join(path, "stiffness_from_oedometer")
+    if m.model != "linear elastic":
+        _fail(model, "stiffness_from_oedometer is for a linear elastic material", flag,
+              "remove it: a Modified Cam Clay layer follows its own lambda and kappa.")
+    for key in ("youngs_modulus", "constrained_modulus"):
+        if getattr(m, key) is not None:
+            _fail(model, f"{key} is given beside stiffness_from_oedometer", _join(path, key),
+                  "give one: the modulus, or stiffness_from_oedometer = true to take it from "
+                  "the oedometer data over the stress range of the load.")
+    o = m.oedometer
+    if o.volume_compressibility is None and o.compression_index is None:
+        _fail(model, "stiffness_from_oedometer needs the oedometer data",
+              _join(_join(path, "oedometer"), "compression_index"),
+              "give compression_index, recompression_index, void_ratio and the "
+              "preconsolidation (or volume_compressibility) under [materials."
+              f"{_key(m.name)}.oedometer].")
+    if model.section.kind == "mesh":
+        _fail(model, "stiffness_from_oedometer needs [[layers]] (the hand method's column); a "
+                     "user mesh has regions", flag,
+              "give the region a constrained_modulus (from the oedometer by hand), or model "
+              "the ground as layers.")
 
 
 def _check_layers(model: Model) -> None:

@@ -141,6 +141,7 @@ _MATERIAL_RULES: dict[str, _Rule] = {
     "undrained_strength": _r("pressure", 'undrained_strength = "15 kPa"', **_POS),
     "undrained_strength_gradient": _r("unit_weight", 'undrained_strength_gradient = "1.5 kPa/m"',
                                       **_NONNEG),
+    "stiffness_from_oedometer": _r("bool", "stiffness_from_oedometer = true"),
 }
 
 _LAYER_RULES: dict[str, _Rule] = {

@@ -57,7 +57,9 @@ class Material:
 
     model : "linear elastic" or "modified cam clay".
     Linear elastic: youngs_modulus (kPa) and poisson_ratio, or constrained_modulus (kPa)
-    and poisson_ratio.
+    and poisson_ratio, or stiffness_from_oedometer (the constrained modulus of each sublayer
+    from the oedometer data over the stress range the load imposes, see
+    :mod:`solver.oedometer_stiffness`) and poisson_ratio.
     Modified Cam Clay: lambda_, kappa, M or friction_angle (degrees), poisson_ratio,
     void_ratio (initial), and preconsolidation from ``oedometer`` (OCR or margin or sigma'_p),
     permeability_change_index (Taylor 1948 C_k; None keeps k constant).
@@ -91,6 +93,7 @@ class Material:
     M: float | None = None
     void_ratio: float | None = None
     permeability_change_index: float | None = None
+    stiffness_from_oedometer: bool = False
     oedometer: OedometerParameters = field(default_factory=OedometerParameters)
     undrained: UndrainedParameters = field(default_factory=UndrainedParameters)
     # Strength for the stability checks (docs/model.md, "Strength and [stability]")
