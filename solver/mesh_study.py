@@ -65,7 +65,7 @@ def applied_pressure(model, t: float, stage_starts: list[float]) -> float:
     """The largest vertical pressure applied on the ground at time t, kPa.
 
     The embankment: fill unit weight times the height placed (a lift's weight ramps on over
-    its stage); footings (load, or force over the base area) and surface loads at their load
+    its stage, and off over a stage that removes it); footings (load, or force over the base area) and surface loads at their load
     factor at t (ramped over each load stage). 0 when nothing is applied yet.
     """
     sec = model.section
@@ -80,6 +80,11 @@ def applied_pressure(model, t: float, stage_starts: list[float]) -> float:
             top = sum(emb.lifts[:st.lift])
             below = sum(emb.lifts[:st.lift - 1])
             height = max(height, below + frac * (top - below))
+        elif st.kind == "remove" and emb is not None and st.lift is not None:
+            # the top lift comes off over its stage
+            top = sum(emb.lifts[:st.lift])
+            below = sum(emb.lifts[:st.lift - 1])
+            height = min(height, below + (1.0 - frac) * (top - below))
         elif st.kind == "load":
             for name in st.loads:
                 f0 = factor.get(name, 0.0)
