@@ -56,10 +56,15 @@ def region_materials(model: Model, region_names: list[str]) -> dict[str, str]:
 
 
 def unplaced_regions(model: Model, stage_index: int) -> set[str]:
-    """Regions of lift stages after ``stage_index`` (counted from 0): not yet placed."""
+    """Regions absent at the stored times of stage ``stage_index`` (counted from 0): those of
+    lift stages after it (not yet placed) and those removed by a stage up to it (a stage that
+    removes a region stores its end, when the region is gone)."""
     out = set()
     for st in model.stages[stage_index + 1:]:
         if st.kind == "lift":
+            out.add(st.region if st.region is not None else f"lift_{st.lift}")
+    for st in model.stages[:stage_index + 1]:
+        if st.kind == "remove":
             out.add(st.region if st.region is not None else f"lift_{st.lift}")
     return out
 
