@@ -139,10 +139,11 @@ def count_outliers(model) -> list[tuple[str, str]]:
 
 
 def geometry_outlier(model) -> list[tuple[str, str]]:
-    """The length of the section (a thickness, a width, the element size) furthest, by a
-    factor of more than 30, from the median of its lengths, as [(path, why)], or []."""
+    """The length of the section (a thickness, a width) furthest, by a factor of more than
+    30, from the median of its lengths, as [(path, why)], or []. Element sizes are left out:
+    they are small against the section by design."""
     from .model.bounds import section_lengths
-    lengths = [(p, v) for p, v, role, _ in section_lengths(model) if role != "coordinate"]
+    lengths = [(p, v) for p, v, role, _ in section_lengths(model) if role == "feature"]
     positive = sorted(abs(v) for _, v in lengths if v and math.isfinite(v))
     if not positive:
         return []

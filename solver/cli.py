@@ -86,7 +86,7 @@ def _set_up(args, model, backend=None):
     from .sections import build_mesh
     from .simulation import Simulation
     with step("meshing", args.model, model):
-        mesh = build_mesh(model)
+        mesh = build_mesh(model, max_elements=args.max_elements)
     with step("set-up", args.model, model):
         return Simulation(model, mesh=mesh, backend=backend)
 
@@ -135,7 +135,7 @@ def _mesh(args) -> int:
                          + ", e.g. -o section.msh.")
     model = _load(args.model)
     with step("meshing", args.model, model):
-        mesh = build_mesh(model)
+        mesh = build_mesh(model, max_elements=args.max_elements)
     with step(f"writing {args.output}", args.model):
         mesh.write(args.output)
     print(f"wrote {args.output}: {mesh.n_elements} triangles, {mesh.n_nodes} nodes, "
@@ -298,6 +298,16 @@ def _compare(args) -> int:
     return 0
 
 
+def _positive_int(text: str) -> int:
+    try:
+        n = int(text.replace("_", "").replace(",", ""))
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a whole number, got {text!r}") from None
+    if n < 1:
+        raise argparse.ArgumentTypeError(f"expected a positive whole number, got {n}")
+    return n
+
+
 def build_parser() -> argparse.ArgumentParser:
     p = argparse.ArgumentParser(prog="poroplane", description=(
         "Coupled consolidation (Biot) finite elements beside the hand method, for "
@@ -328,13 +338,21 @@ def build_parser() -> argparse.ArgumentParser:
     v.add_argument("--case", action="append", metavar="NAME",
                    help="run only this case (repeatable): " + ", ".join(CASES))
 
-    command("check", _check, "read, check and mesh a model file; solve nothing", model)
+    def max_elements(sp):
+        sp.add_argument("--max-elements", type=_positive_int, default=None, metavar="N",
+                        help="refuse a section estimated above N triangles before meshing "
+                             "(default: section.max_elements, else 3,000,000)")
+
+    max_elements(command("check", _check, "read, check and mesh a model file; solve nothing",
+                         model))
 
     m = command("mesh", _mesh, "write the mesh of a model", model)
     m.add_argument("-o", "--output", required=True,
                    help="mesh file to write: .msh (Gmsh 2.2), .vtu or .vtk")
+    max_elements(m)
 
     r = command("run", _run, "solve a model through its stages, streaming results", model)
+    max_elements(r)
     r.add_argument("-o", "--output", required=True, help="folder for the results")
     r.add_argument("--resume", action="store_true",
                    help="continue an interrupted run from its last finished step")

@@ -72,6 +72,23 @@ def test_fuzzed_model_ends_in_a_message_naming_the_field(tmp_path, example, path
     assert "Fix:" in r.stderr
 
 
+def test_max_elements_refuses_a_larger_mesh_before_meshing(capsys, monkeypatch):
+    from solver.sections import gmsh_section
+
+    def no_gmsh(*a, **k):
+        raise AssertionError("gmsh was started")
+
+    monkeypatch.setattr(gmsh_section, "gmsh_session", no_gmsh)     # meshing must not start
+    f = str(EXAMPLES / "tank_footing.toml")
+    for command in (["check", f], ["mesh", f, "-o", "never.msh"]):
+        assert main(command + ["--max-elements", "100"]) == 2
+        err = capsys.readouterr().err
+        assert "more than the limit of 100" in err and "section.footings[1].width" in err
+    with pytest.raises(SystemExit):
+        main(["check", f, "--max-elements", "0"])
+    assert "expected a positive whole number" in capsys.readouterr().err
+
+
 def test_mesh_to_a_picture_names_the_accepted_extensions(tmp_path, capsys):
     for name in ("section.png", "section"):
         assert main(["mesh", str(EXAMPLES / "tank_footing.toml"), "-o",
@@ -135,7 +152,7 @@ def test_writing_is_told_from_stepping_by_where_it_failed():
 def test_debug_shows_the_traceback_of_the_original(tmp_path, monkeypatch):
     from solver import sections
 
-    def broken(model):
+    def broken(model, **options):
         raise RuntimeError("Could not create line")
 
     monkeypatch.setattr(sections, "build_mesh", broken)
