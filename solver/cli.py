@@ -170,7 +170,7 @@ def _run(args) -> int:
     from .comparison import add_comparison, format_table
     done = f"The run is complete in {out}/."
     with step("the hand-method comparison", args.model, model, written=done):
-        rows, message = add_comparison(model, result.probes, out)
+        rows, message = add_comparison(model, result.probes, out, mesh=sim.mesh)
     if rows is None:
         print(f"warning: no hand-method comparison: {message}", file=sys.stderr)
     else:
@@ -282,8 +282,8 @@ def until_degree_text(st: dict) -> str:
 
 
 def _hand(args) -> int:
-    from .hand.estimate import hand_estimate
     from .hand_output import hand_json, hand_report
+    from .hand_section import estimate as hand_estimate
     model = _load(args.model)
     with step("the hand method", args.model, model):
         est = hand_estimate(model)

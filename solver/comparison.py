@@ -367,7 +367,7 @@ def compare_run_dir(out_dir: str | Path) -> str:
     if present, ``DIR/summary.json``; recomputes the hand estimate; returns
     :func:`format_table` of :func:`compare`.
     """
-    from .hand.estimate import hand_estimate
+    from .hand_section import estimate as hand_estimate
     from .model import load_model
     from .results import read_probes
     out = Path(out_dir)
@@ -387,8 +387,8 @@ def compare_run_dir(out_dir: str | Path) -> str:
     return format_table(compare(hand, probes, summary))
 
 
-def add_comparison(model, fe_probes: Mapping[str, Mapping[str, Any]], out_dir: str | Path | None = None
-                   ) -> tuple[list[dict] | None, str | None]:
+def add_comparison(model, fe_probes: Mapping[str, Mapping[str, Any]], out_dir: str | Path | None = None,
+                   mesh=None) -> tuple[list[dict] | None, str | None]:
     """The comparison step at the end of a run: hand estimate, rows, and (with ``out_dir``)
     ``out_dir/comparison.csv``, ``out_dir/hand.json`` (the estimate, :func:`hand_json`) and
     the ``comparison`` section added to ``out_dir/summary.json``.
@@ -396,8 +396,9 @@ def add_comparison(model, fe_probes: Mapping[str, Mapping[str, Any]], out_dir: s
     The hand method needs parameters the FE run does not (e.g. oedometer data); when it cannot
     be done the run is not affected: returns ``(None, message)`` and records
     ``{"skipped": message}`` as the summary's ``comparison``. Otherwise ``(rows, None)``.
+    ``mesh``: the run's mesh, from which a mesh section's soil columns are read.
     """
-    from .hand.estimate import hand_estimate
+    from .hand_section import estimate as hand_estimate
     rows, message = None, None
     summary_path = Path(out_dir) / "summary.json" if out_dir is not None else None
     summary = None
@@ -405,7 +406,7 @@ def add_comparison(model, fe_probes: Mapping[str, Mapping[str, Any]], out_dir: s
         summary = json.loads(summary_path.read_text(encoding="utf-8"))
     hand = None
     try:
-        hand = hand_estimate(model)
+        hand = hand_estimate(model, mesh=mesh)
         rows = compare(hand, fe_probes, summary)
     except PoroplaneError as exc:
         message = f"no comparison with the hand method: {exc}"

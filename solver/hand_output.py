@@ -64,8 +64,9 @@ def _stage_rows(p: ProbeEstimate) -> list[str]:
     lines = ["  through the stages (consolidation settlement of the soil below the probe):",
              f"    {'stage':{w}s}   end days   settlement m   its load held for ever m   degree"]
     for s in p.stages:
-        deg = "-" if not math.isfinite(s.degree) else f"{s.degree:.0%}"
-        lines.append(f"    {s.name:{w}s} {s.end_days:10,.1f} {s.settlement_m:14.4f} "
+        deg = ("-" if not math.isfinite(s.degree) else
+               "0%" if abs(s.degree) < 0.005 else f"{s.degree:.0%}")
+        lines.append(f"    {s.name:{w}s} {s.end_days:10,.1f} {(s.settlement_m if abs(s.settlement_m) >= 5e-5 else 0.0):14.4f} "
                      f"{s.ultimate_m:26.4f}   {deg}")
     return lines
 

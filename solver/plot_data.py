@@ -180,7 +180,7 @@ def _hand(model):
     if model is None:
         return {}, "hand method not drawn: the model copy is not available", None
     try:
-        from .hand.estimate import hand_estimate
+        from .hand_section import estimate as hand_estimate
     except ImportError:
         return {}, "hand method not drawn: solver.hand.estimate is not installed", None
     try:

@@ -120,3 +120,63 @@ def test_immediate_settlement_needs_the_undrained_modulus_given():
     assert by_modulus.final_settlement_m == pytest.approx(
         by_modulus.immediate_settlement_m + by_modulus.consolidation_settlement_m
         + by_modulus.secondary_settlement_m)
+
+
+# ----------------------------------------------------------------------------- beside a load
+
+
+def test_immediate_settlement_beside_a_circle_has_the_elastic_sign_and_size():
+    # Half-space surface outside a uniform circle (Timoshenko & Goodier 1951; Poulos & Davis
+    # 1974, values of the closed form from memory):
+    #   w(r) = 4 q r (1 - nu^2) / (pi E) [E(k) - (1 - k^2) K(k)],  k = a / r, for r >= a,
+    # settling everywhere and decaying with r. On a layer over a rigid base (the hand method's
+    # Steinbrenner 1934 layer summation) the surface beside the load is w(r, 0) - w(r, h), with
+    # w(r, h) the half-space displacement at depth h: here integrated over the disc in the test
+    # from the Boussinesq (1885) point load, w = P (1 + nu) / (2 pi E R) [2 (1 - nu) + z^2 / R^2].
+    from scipy import integrate
+    from scipy.special import ellipe, ellipk
+    from solver.hand.elastic import disc_displacement
+    q, a, E, nu = 100.0, 1.5, 5000.0, 0.5
+    for r in (1.5, 2.0, 3.0, 6.0, 15.0):
+        k2 = (a / r) ** 2                         # at the edge E(1) = 1 and (1 - k^2) K -> 0
+        ref = 4 * q * r * (1 - nu ** 2) / (np.pi * E) * (
+            1.0 if k2 == 1.0 else ellipe(k2) - (1 - k2) * ellipk(k2))
+        got = disc_displacement(r, np.array([0.0]), a, q, E, nu)[0]
+        assert got == pytest.approx(ref, rel=2e-4) and got > 0.0
+    h, r = 3.0, 6.0
+
+    def point(rho, th):
+        R = np.sqrt(rho ** 2 + r ** 2 - 2 * rho * r * np.cos(th) + h ** 2)
+        return q * rho * (1 + nu) / (2 * np.pi * E * R) * (2 * (1 - nu) + h * h / R ** 2)
+    w_h = 2 * integrate.dblquad(lambda rho, th: point(rho, th), 0.0, np.pi, 0.0, a,
+                                epsabs=1e-12, epsrel=1e-10)[0]
+    k2 = (a / r) ** 2
+    w_0 = 4 * q * r * (1 - nu ** 2) / (np.pi * E) * (ellipe(k2) - (1 - k2) * ellipk(k2))
+    layer = w_0 - w_h
+    assert layer < 0.0                            # an undrained heave beside the load
+    m = footing_model(2 * a, h, None, axisymmetric=True, load=q, eu=E)
+    m.probes.append(type(m.probes[0])("beside", r, 0.0))
+    p = hand_estimate(m).probes["beside"]
+    assert p.immediate_settlement_m == pytest.approx(layer, rel=1e-3)
+    assert any("is a heave" in n for n in p.notes)
+
+
+def test_immediate_settlement_beside_a_strip_is_the_integrated_elastic_strain():
+    # Plane strain beside a uniform strip (width B = 2b) on a layer h thick: the vertical strain
+    # eps_z = (1 + nu)/E [(1 - nu) s_z - nu s_x] of the half-space stresses (Carothers 1920;
+    # Poulos & Davis 1974: s_z, s_x = q/pi [alpha +- sin(alpha) cos(alpha + 2 delta)])
+    # integrated over depth, here by quadrature in the test (Steinbrenner 1934 approximation).
+    from scipy import integrate
+    from solver.hand.elastic import strip_immediate_settlement
+    q, b, h, E, nu = 80.0, 1.0, 4.0, 6000.0, 0.5
+
+    def strain(z, x):
+        t1, t2 = np.arctan2(x + b, z), np.arctan2(x - b, z)
+        alpha, half = t1 - t2, 0.5 * (np.sin(2 * t1) - np.sin(2 * t2))
+        sz, sx = q / np.pi * (alpha + half), q / np.pi * (alpha - half)
+        return (1 + nu) / E * ((1 - nu) * sz - nu * sx)
+    for x, sign in ((0.0, 1.0), (0.5, 1.0), (3.0, -1.0), (6.0, -1.0)):
+        ref = integrate.quad(strain, 0.0, h, args=(x,), epsabs=1e-14, limit=200)[0]
+        got = float(strip_immediate_settlement(x, q, 2 * b, h, E, nu))
+        assert got == pytest.approx(ref, rel=1e-6, abs=1e-12)
+        assert np.sign(got) == sign               # settling under it, heaving beside it

@@ -142,6 +142,7 @@ def test_hand_method_curves_are_read_when_available(run_dir):
 def test_plots_without_the_hand_method_still_come_out(run_dir, tmp_path, monkeypatch):
     from solver.plots import load_run
     monkeypatch.setitem(sys.modules, "solver.hand.estimate", None)   # import fails
+    monkeypatch.setitem(sys.modules, "solver.hand_section", None)
     run = load_run(run_dir)
     assert run.hand == {} and "not installed" in run.hand_note
     from solver.plots import plot_degree_time, plot_settlement_time

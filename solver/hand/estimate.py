@@ -133,7 +133,8 @@ from solver.model import Model, domain_extent
 
 from . import differential, settlement
 from .elastic import disc_displacement
-from .ground import FREE_DRAINING_DEGREE, build_column, free_draining, layer_data
+from .ground import (FREE_DRAINING_DEGREE, LayerData, SectionColumns, build_column, free_draining,
+                     layer_data, material_data, mesh_column)
 from .loads import (STAIRCASE_STEPS, model_loads, on_rigid_base, part_horizontal_stress,
                     part_spread, part_stress, within_footing)
 from .probe import END_OF_PRIMARY_DEGREE, column_solution, probe_estimate
@@ -167,8 +168,8 @@ _TOL = 1e-9
 # ============================================================================ the estimate
 
 
-def hand_estimate(model: Model, times=None, max_sublayer_thickness: float | None = None
-                  ) -> HandEstimate:
+def hand_estimate(model: Model, times=None, max_sublayer_thickness: float | None = None,
+                  section: SectionColumns | None = None) -> HandEstimate:
     """The hand estimate of every point probe of ``model`` (see the module docstring).
 
     Parameters
@@ -182,6 +183,11 @@ def hand_estimate(model: Model, times=None, max_sublayer_thickness: float | None
     max_sublayer_thickness : float, optional
         Sublayer thickness (m); default ``min(0.5, B/4)`` (at least 0.02 m), B the narrowest
         loaded width.
+    section : SectionColumns, optional
+        For a section given as a mesh (``section.kind = "mesh"``): the soil column under each
+        probe read from the mesh, and the regions placed by lift stages
+        (:func:`solver.hand_section.mesh_section` builds it; :func:`solver.hand_section.estimate`
+        does both). Depths are then from the top of the column at the probe's x.
 
     Returns
     -------
@@ -192,15 +198,30 @@ def hand_estimate(model: Model, times=None, max_sublayer_thickness: float | None
     InputError
         A layer without the parameters the hand method needs (naming the field), no layers.
     """
-    if not model.layers:
+    notes: list[str] = []
+    axi = model.analysis == "axisymmetric"
+    by_region: dict[str, LayerData] = {}
+    if model.section.kind == "mesh":
+        if section is None:
+            raise InputError("the hand method on a section given as a mesh reads the soil column "
+                             "under each probe from the mesh", field="section.mesh_file",
+                             source=model.source, fix="call solver.hand_section.estimate(model) "
+                             "(poroplane hand and run do).")
+        by_region = {r: material_data(model, i, r, m, f"section.regions.{r}", notes, "region")
+                     for i, (r, m) in enumerate(model.section.regions.items())}
+        notes.append(f"the soil columns under the probes were read from the mesh "
+                     f"({section.source}): the regions each vertical crosses, at their "
+                     "thickness there; depths are from the top of each column.")
+        ext = section.x_span
+    elif not model.layers:
         raise InputError("the hand method needs [[layers]] (the ground as horizontal or sloping "
                          "layers)", field="layers", source=model.source,
                          fix="give [[layers]] with name, material and thickness.")
-    notes: list[str] = []
-    axi = model.analysis == "axisymmetric"
-    data = [layer_data(model, j, notes) for j in range(len(model.layers))]
-    ext = domain_extent(model)
-    loads = model_loads(model, None if ext is None else (ext[0], ext[1]), notes)
+    else:
+        data = [layer_data(model, j, notes) for j in range(len(model.layers))]
+        ext = domain_extent(model)
+    loads = model_loads(model, None if ext is None else (ext[0], ext[1]), notes,
+                        None if section is None else section.lifts)
     pieces, final_factor, end, spans = schedule(model, loads, notes)
     active = [n for n in loads if final_factor.get(n, 0.0) != 0.0 or any(p.load == n for p in pieces)]
     knots = sorted({p.start for p in pieces} | {p.start + p.duration for p in pieces})
@@ -220,7 +241,6 @@ def hand_estimate(model: Model, times=None, max_sublayer_thickness: float | None
 
     footing_names = {f.name for f in model.section.footings} if model.section.kind == "footings" else set()
     # probes grouped by x: one column (split at every probe depth there) and one staged solution
-    probe_depths = {pr.name: max(0.0, -float(pr.y)) for pr in model.probes}
     groups: dict[float, list] = {}
     for pr in model.probes:
         groups.setdefault(round(float(pr.x), 9), []).append(pr)
@@ -228,14 +248,17 @@ def hand_estimate(model: Model, times=None, max_sublayer_thickness: float | None
     results: dict[str, ProbeEstimate] = {}
     for prs in groups.values():
         x = float(prs[0].x)
-        depths = sorted({probe_depths[p.name] for p in prs})
-        col = build_column(model, data, x, depths)
+        top = float(section.column(x)[0][1]) if section is not None and section.column(x) else 0.0
+        probe_depths = {pr.name: max(0.0, top - float(pr.y)) for pr in prs}
+        depths = sorted(set(probe_depths.values()))
+        col = (mesh_column(model, section, by_region, x, depths) if section is not None
+               else build_column(model, data, x, depths))
         total_depth = float(col.tops[-1])
         subs = settlement.split_layers(col.layers, max_sub)
         zm = subs.mid
         gw = model.water.unit_weight
         s0_layers = settlement.vertical_effective_stress(0.5 * (col.tops[:-1] + col.tops[1:]),
-                                                         col.layers, model.water.table_depth, gw,
+                                                         col.layers, col.water_depth, gw,
                                                          col.pore_pressure)
         col.free, free_notes = free_draining(col, s0_layers, first_time, model.drainage, gw)
         notes.extend(n for n in free_notes if n not in notes)
@@ -253,11 +276,11 @@ def hand_estimate(model: Model, times=None, max_sublayer_thickness: float | None
                                   final_factor, t_out, shared_depths) if shared_depths else None)
         for pr in prs:
             d = depth_of[pr.name]
-            pnotes: list[str] = []
-            if pr.y > _TOL:
-                pnotes.append(f"the probe is {pr.y:g} m above the original ground (in the fill); "
-                              "the estimate is the settlement of the original ground below it, "
-                              "without the fill's own compression.")
+            pnotes: list[str] = [col.source] if col.source else []
+            if pr.y > col.top_elevation + _TOL:
+                pnotes.append(f"the probe is {pr.y - col.top_elevation:g} m above the ground "
+                              "(in the fill); the estimate is the settlement of the ground below "
+                              "it, without the fill's own compression.")
             if rigid_at[pr.name]:
                 # a rigid footing at whose base the probe sits: its stress at the characteristic point
                 unit_p, unit_hp = dict(unit), dict(unit_h)
@@ -280,7 +303,8 @@ def hand_estimate(model: Model, times=None, max_sublayer_thickness: float | None
                                   spans, final_factor, x, t_out, end, pnotes, axi)
             on_base = any(within_footing(loads[n], x, d)
                           for n in active if n in footing_names)
-            est.where = ("in the fill" if pr.y > _TOL else "footing base" if on_base else
+            est.where = ("in the fill" if pr.y > col.top_elevation + _TOL else
+                         "footing base" if on_base else
                          "ground surface" if d <= _TOL else "inside the ground")
             results[pr.name] = est
     ordered = {pr.name: results[pr.name] for pr in model.probes}

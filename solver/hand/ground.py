@@ -15,7 +15,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from typing import Sequence
+from typing import Callable, Sequence
 
 import numpy as np
 from numpy.typing import NDArray
@@ -28,9 +28,9 @@ from solver.pore_water import layer_water
 
 from . import parameters, settlement
 
-__all__ = ["FREE_DRAINING_DEGREE", "LayerData", "layer_data", "free_draining", "Column",
-           "layer_faces", "start_water", "build_column", "elastic_youngs",
-           "undrained_modulus"]
+__all__ = ["FREE_DRAINING_DEGREE", "LayerData", "layer_data", "material_data", "free_draining",
+           "Column", "SectionColumns", "layer_faces", "start_water", "build_column", "mesh_column",
+           "column_of", "elastic_youngs", "undrained_modulus"]
 
 FREE_DRAINING_DEGREE = 0.99
 """A layer open to a drained boundary is free-draining in the time rate when its own degree
@@ -69,14 +69,20 @@ def elastic_youngs(m: Material) -> float | None:
 def layer_data(model: Model, j: int, notes: list[str]) -> LayerData:
     """Compressibility, permeability and unit weights of layer j for the hand method."""
     ly = model.layers[j]
+    return material_data(model, j, ly.name, ly.material, f"layers[{j + 1}].material", notes)
+
+
+def material_data(model: Model, index: int, name: str, material: str, path: str,
+                  notes: list[str], what: str = "layer") -> LayerData:
+    """The hand method's view of ground named ``name`` (a layer, or a region of a mesh) made of
+    ``material``; ``path`` is the field that names the material, for messages."""
     src = model.source
-    if ly.material not in model.materials:
-        raise InputError(f"layer {ly.name!r}: unknown material {ly.material!r}",
-                         field=f"layers[{j + 1}].material", source=src,
+    if material not in model.materials:
+        raise InputError(f"{what} {name!r}: unknown material {material!r}", field=path, source=src,
                          fix=f"use one of {sorted(model.materials)}.")
-    m = model.materials[ly.material]
+    m = model.materials[material]
     o = m.oedometer
-    who = f"layer {ly.name!r} (material {m.name!r})"
+    who = f"{what} {name!r} (material {m.name!r})"
     gamma_w = model.water.unit_weight
 
     def fail(key: str, message: str, fix: str, path: str | None = None) -> None:
@@ -84,7 +90,7 @@ def layer_data(model: Model, j: int, notes: list[str]) -> LayerData:
                          field=path or _oed_path(m, key), source=src, fix=fix)
 
     sat = m.saturated_unit_weight if m.saturated_unit_weight is not None else m.unit_weight
-    kw: dict = {"name": ly.name, "unit_weight": float(sat), "unit_weight_above_water": float(m.unit_weight)}
+    kw: dict = {"name": name, "unit_weight": float(sat), "unit_weight_above_water": float(m.unit_weight)}
     e0 = o.void_ratio if o.void_ratio is not None else m.void_ratio
     precon = {"preconsolidation_pressure": o.preconsolidation_pressure,
               "overconsolidation_ratio": o.overconsolidation_ratio,
@@ -178,7 +184,7 @@ def layer_data(model: Model, j: int, notes: list[str]) -> LayerData:
     except InputError as exc:
         raise InputError(f"{who}: {exc.message}", field=f"materials.{m.name}.oedometer",
                          source=src, fix=exc.fix) from None
-    return LayerData(j, ly.name, m, kw, k_v)
+    return LayerData(index, name, m, kw, k_v)
 
 
 def free_draining(col: "Column", sigma_v0: NDArray[np.float64], first_time: float,
@@ -261,6 +267,9 @@ class Column:
     eu: NDArray[np.float64]         # (n,) undrained modulus E_u, kPa (NaN: not given)
     pore_pressure: object = None    # u(z) at the start, kPa (None: hydrostatic)
     initial_excess: object = None   # u_e0(z), kPa (None: none)
+    top_elevation: float = 0.0      # elevation of depth 0 (the original ground, or a mesh column's top)
+    water_depth: float = 0.0        # depth of the water table below the column's top, m
+    source: str = ""                # where the column came from, when not the model's layers
 
 
 def layer_faces(model: Model, x: float, n_layers: int) -> NDArray[np.float64]:
@@ -300,13 +309,70 @@ def start_water(model: Model, x: float):
     return (lambda z: sum(parts(z))), (lambda z: parts(z)[1])
 
 
+@dataclass
+class SectionColumns:
+    """The ground of a section given as a mesh, as plain data for the hand method (read from
+    the mesh by :mod:`solver.hand_section`; the hand method never imports the mesh).
+
+    ``column(x)``: the regions the vertical at x crosses, top down, as (region name, y top,
+    y bottom) in m (elevation, up positive), the regions placed by lift stages left out;
+    ``lifts``: region placed by a lift stage -> (x, thickness) in m along the section;
+    ``x_span``: the section's x range; ``source``: the mesh file, named in the notes.
+    """
+    column: Callable[[float], list[tuple[str, float, float]]]
+    lifts: dict[str, tuple[NDArray[np.float64], NDArray[np.float64]]]
+    x_span: tuple[float, float]
+    source: str
+
+
 def build_column(model: Model, data: list[LayerData], x: float, split: Sequence[float]
-                  ) -> Column:
+                 ) -> Column:
+    """The model's layers under x (sloping layers at their local thickness), split at the
+    depths ``split``; depths from the original ground surface."""
     faces = layer_faces(model, x, len(data))
+    segments = [(d, float(faces[j]), float(faces[j + 1])) for j, d in enumerate(data)]
+    return column_of(model, segments, x, split, top=0.0, water=start_water(model, x))
+
+
+def mesh_column(model: Model, section: SectionColumns, data: dict[str, LayerData], x: float,
+                split: Sequence[float]) -> Column:
+    """The regions of a mesh section under x, read from the mesh, split at the depths
+    ``split`` below the top of the column there (the highest region at x)."""
+    pieces = section.column(float(x))
+    if not pieces:
+        raise InputError(f"the vertical at x = {x:g} m meets no region of the mesh "
+                         f"({section.source})", field="probes", source=model.source,
+                         fix="place the probe over the section.")
+    top = float(pieces[0][1])
+    segments = []
+    for name, a, b in pieces:
+        if name not in data:
+            raise InputError(f"mesh region {name!r} has no material", field="section.regions",
+                             source=model.source, fix=f"add {name} = \"MATERIAL\" to [section.regions].")
+        segments.append((data[name], top - a, top - b))
+    col = column_of(model, segments, x, split, top=top)
+    w = model.water
+    if w.piezometric_depths or w.initial_excess_pore_pressures:
+        raise InputError("the hand method on a section given as a mesh takes the pore water "
+                         "hydrostatic below the water table; piezometric levels and initial "
+                         "excess pore pressures are read for [[layers]] only",
+                         field="water", source=model.source,
+                         fix="give the section as [[layers]] for the hand method, or compare "
+                             "the finite elements alone.")
+    col.source = (f"the column under x = {x:g} m read from the mesh ({section.source}): " +
+                  ", ".join(f"{n} {top - a:.2f}-{top - b:.2f} m" for n, a, b in pieces) +
+                  f" below its top at y = {top:g} m")
+    return col
+
+
+def column_of(model: Model, segments, x: float, split: Sequence[float], top: float,
+              water=(None, None)) -> Column:
+    """Hand layers from (LayerData, depth of top, depth of bottom) segments, top down, split
+    at the depths ``split``; ``top``: the elevation of the column's top (depth 0); ``water``:
+    (u(z), u_e0(z)) at the start (:func:`start_water`), or hydrostatic (None, None)."""
     layers, datas, tops = [], [], [0.0]
     cuts = sorted(float(d) for d in split)
-    for j, d in enumerate(data):
-        a, b = float(faces[j]), float(faces[j + 1])
+    for d, a, b in segments:
         if b - a <= _TOL:
             continue
         edges = [a] + [c for c in cuts if a + _TOL < c < b - _TOL] + [b]
@@ -319,9 +385,9 @@ def build_column(model: Model, data: list[LayerData], x: float, split: Sequence[
                          field="layers", source=model.source, fix="give [[layers]] with thickness.")
     tops_a = np.array(tops)
     eu = np.array([undrained_modulus(d.material) for d in datas])
-    u_start, excess = start_water(model, x)
     return Column(float(x), layers, datas, tops_a, np.zeros(len(layers), dtype=bool), eu,
-                  u_start, excess)
+                  water[0], water[1], top_elevation=float(top),
+                  water_depth=float(model.water.table_depth) + top)
 
 
 def undrained_modulus(m: Material) -> float:

@@ -62,6 +62,35 @@ class Load:
     axisymmetric: bool = False
 
 
+def _region_load(name: str, xs: NDArray[np.float64], thick: NDArray[np.float64], gamma: float,
+                 axi: bool) -> Load:
+    """The weight of a region of thickness ``thick`` at ``xs`` as a load: the exact profile
+    (plane strain) and a stack of uniform strips (rings in axisymmetry) cut at
+    :data:`STAIRCASE_STEPS` levels for the 2:1 spread and the immediate settlement."""
+    order = np.argsort(xs)
+    xs, thick = xs[order], np.maximum(thick[order], 0.0)
+    top = float(thick.max()) if thick.size else 0.0
+    steps = []
+    if top > 0.0:
+        dq = gamma * top / STAIRCASE_STEPS
+        for lev in (np.arange(STAIRCASE_STEPS) + 0.5) * top / STAIRCASE_STEPS:
+            on = np.concatenate([[False], thick >= lev, [False]])
+            starts = np.flatnonzero(~on[:-1] & on[1:])
+            ends = np.flatnonzero(on[:-1] & ~on[1:]) - 1
+            for a, b in zip(starts, ends):
+                x0, x1 = float(xs[a]), float(xs[b])
+                if x1 - x0 <= _TOL:
+                    continue
+                if axi:
+                    steps.append(Part("disc", dq, 2.0 * x1))
+                    if x0 > _TOL:
+                        steps.append(Part("disc", -dq, 2.0 * x0))
+                else:
+                    steps.append(Part("strip", dq, x1 - x0, 0.5 * (x0 + x1)))
+    stress_parts = steps if axi else [Part("profile", x_nodes=tuple(xs), q_nodes=tuple(gamma * thick))]
+    return Load(name, f"region {name!r}", stress_parts, steps, axisymmetric=axi)
+
+
 def _fill_height_nodes(points: list[tuple[float, float]], low: float, high: float
                        ) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
     """x (>= 0) and the part of the fill height between ``low`` and ``high`` at x, with nodes
@@ -94,9 +123,13 @@ def _half_width_at(points: list[tuple[float, float]], level: float) -> float:
     return best
 
 
-def model_loads(model: Model, x_span: tuple[float, float] | None, notes: list[str]
-                 ) -> dict[str, Load]:
-    """Every switchable load of the model, at factor 1, by the name the stages use."""
+def model_loads(model: Model, x_span: tuple[float, float] | None, notes: list[str],
+                lifts: dict | None = None) -> dict[str, Load]:
+    """Every switchable load of the model, at factor 1, by the name the stages use.
+
+    ``lifts``: for a section given as a mesh, region placed by a lift stage -> (x, thickness
+    of the region along x), m: its weight is a load on the ground below (a piecewise-linear
+    strip pressure in plane strain, rings in axisymmetry)."""
     sec = model.section
     axi = model.analysis == "axisymmetric"
     half = sec.half or axi
@@ -139,6 +172,15 @@ def model_loads(model: Model, x_span: tuple[float, float] | None, notes: list[st
         if axi:
             notes.append("axisymmetric embankment: a circular mound, taken as a stack of "
                          f"{STAIRCASE_STEPS} uniform discs for the stress increase.")
+
+    # ---------------------------------------------------------------- mesh regions placed as lifts
+    for region, (xs, thick) in (lifts or {}).items():
+        mat = model.materials[model.section.regions[region]]
+        loads[region] = _region_load(region, np.asarray(xs, float), np.asarray(thick, float),
+                                     float(mat.unit_weight), axi)
+        notes.append(f"region {region!r} placed by a lift stage: its weight (unit weight "
+                     f"{mat.unit_weight:g} kN/m3 times its thickness at each x, read from the "
+                     "mesh) loads the ground below it.")
 
     # ---------------------------------------------------------------- footings
     for f in sec.footings if sec.kind == "footings" else []:

@@ -66,7 +66,7 @@ def column_solution(model, col, subs, max_sub, unit, unit_h, active, pieces, fin
     zm = subs.mid
     stress_final = sum((final_factor[n] * unit[n] for n in active), np.zeros_like(zm))
     sx_final = sum((final_factor[n] * unit_h[n] for n in active), np.zeros_like(zm))
-    ps = settlement.settlement_under_probe(col.layers, lambda z: stress_final, model.water.table_depth,
+    ps = settlement.settlement_under_probe(col.layers, lambda z: stress_final, col.water_depth,
                                            max_sublayer_thickness=max_sub, gamma_w=gw,
                                            pore_pressure=col.pore_pressure)
     if ps.mid.size != zm.size or not np.allclose(ps.mid, zm):

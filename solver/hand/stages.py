@@ -56,7 +56,7 @@ def schedule(model: Model, loads: dict[str, Load], notes: list[str]
     for i, st in enumerate(model.stages):
         dur = float(st.duration)
         if st.kind == "lift":
-            name = f"lift_{st.lift}"
+            name = st.region or f"lift_{st.lift}"
             if name not in loads:
                 raise InputError(f"stage {st.name!r} places lift {st.lift}, which the embankment "
                                  "does not have", field=f"stages[{i + 1}].lift", source=model.source,
