@@ -180,3 +180,150 @@ def test_immediate_settlement_beside_a_strip_is_the_integrated_elastic_strain():
         got = float(strip_immediate_settlement(x, q, 2 * b, h, E, nu))
         assert got == pytest.approx(ref, rel=1e-6, abs=1e-12)
         assert np.sign(got) == sign               # settling under it, heaving beside it
+
+
+# ----------------------------------------------------------------------------- a preload
+
+PRELOAD = """
+# AN INVENTED preload: a fill 3 m high and 40 m wide at its base on 2 m of crust, 8 m of soft
+# clay, 1 m of sand and 5 m of firm clay; moduli matched to the oedometer values.
+title = "Preload on soft clay (invented)"
+[section]
+kind = "embankment"
+half = true
+mesh_size = 1.0
+[section.embankment]
+crest_width = 28.0
+height = 3.0
+side_slope = 2.0
+lifts = [1.5, 1.5]
+material = "fill"
+[[layers]]
+name = "crust"
+material = "crust"
+thickness = 2.0
+[[layers]]
+name = "soft_clay"
+material = "soft_clay"
+thickness = 8.0
+[[layers]]
+name = "sand"
+material = "sand"
+thickness = 1.0
+[[layers]]
+name = "firm_clay"
+material = "firm_clay"
+thickness = 5.0
+[water]
+table_depth = 1.0
+[drainage]
+top = true
+base = false
+[materials.fill]
+youngs_modulus = "20 MPa"
+unit_weight = "20 kN/m3"
+permeability = "1e-5 m/s"
+[materials.crust]
+youngs_modulus = "4 MPa"
+unit_weight = "18 kN/m3"
+saturated_unit_weight = "18.5 kN/m3"
+permeability = "1e-8 m/s"
+[materials.crust.oedometer]
+compression_index = 0.2
+recompression_index = 0.03
+void_ratio = 0.9
+overconsolidation_ratio = 3.0
+[materials.crust.undrained]
+strength = "40 kPa"
+modulus_ratio = 300
+[materials.soft_clay]
+youngs_modulus = "0.65 MPa"
+unit_weight = "16 kN/m3"
+permeability = "1e-9 m/s"
+[materials.soft_clay.oedometer]
+compression_index = 0.8
+recompression_index = 0.08
+void_ratio = 1.9
+preconsolidation_margin = "15 kPa"
+[materials.soft_clay.undrained]
+strength = "15 kPa"
+modulus_ratio = 300
+[materials.sand]
+youngs_modulus = "30 MPa"
+unit_weight = "19 kN/m3"
+saturated_unit_weight = "20 kN/m3"
+permeability = "1e-4 m/s"
+[materials.sand.oedometer]
+volume_compressibility = "3e-5 1/kPa"
+[materials.firm_clay]
+youngs_modulus = "3 MPa"
+unit_weight = "18 kN/m3"
+permeability = "5e-10 m/s"
+[materials.firm_clay.oedometer]
+compression_index = 0.35
+recompression_index = 0.04
+void_ratio = 1.0
+overconsolidation_ratio = 1.5
+[materials.firm_clay.undrained]
+strength = "40 kPa"
+modulus_ratio = 400
+[[stages]]
+name = "lift 1"
+kind = "lift"
+lift = 1
+duration = "30 days"
+[[stages]]
+name = "lift 2"
+kind = "lift"
+lift = 2
+duration = "30 days"
+[[stages]]
+name = "long term"
+kind = "consolidate"
+duration = "30 years"
+[[probes]]
+name = "centre"
+x = 0.0
+y = 0.0
+"""
+
+
+def test_preload_total_is_not_double_counted():
+    # The centre of an invented preload, worked by hand here: Osterberg's (1957) centre-line
+    # stress (test_hand_estimate.osterberg_centre), the 1D settlement of each sublayer
+    # (Terzaghi & Peck 1948; sigma'_v0 from the unit weights and the water table 1 m deep),
+    # summed. The total adds only the undrained distortion with the E_u given (s_u x E_u/s_u),
+    # a small part of a load 40 m wide on 16 m of ground (nothing derived from the drained E').
+    from solver.model import model_from_toml
+    from test_hand_estimate import osterberg_centre
+    m = model_from_toml(PRELOAD)
+    p = hand_estimate(m, max_sublayer_thickness=0.25).probes["centre"]
+    z = p.depth_m
+    dz = p.sublayer_bottom_m - p.sublayer_top_m
+    gam = {"crust": (18.0, 18.5), "soft_clay": (16.0, 16.0), "sand": (19.0, 20.0),
+           "firm_clay": (18.0, 18.0)}
+    faces = {"crust": (0, 2), "soft_clay": (2, 10), "sand": (10, 11), "firm_clay": (11, 16)}
+    sig = np.zeros_like(z)
+    for name, (a, b) in faces.items():        # total stress, then minus the water below 1 m
+        dry, sat = gam[name]
+        above = np.clip(np.minimum(z, 1.0), a, b) - a
+        sig += dry * above + sat * (np.clip(z, a, b) - a - above)
+    s0 = sig - GW * np.maximum(z - 1.0, 0.0)
+    ds = osterberg_centre(z, 28.0, 6.0, 60.0)
+    ref = 0.0
+    for i, name in enumerate(p.sublayer_layer):
+        if name == "sand":
+            ref += 3e-5 * ds[i] * dz[i]
+            continue
+        cc, cr, e0 = {"crust": (0.2, 0.03, 0.9), "soft_clay": (0.8, 0.08, 1.9),
+                      "firm_clay": (0.35, 0.04, 1.0)}[name]
+        sp = {"crust": 3.0 * s0[i], "soft_clay": s0[i] + 15.0, "firm_clay": 1.5 * s0[i]}[name]
+        sf = s0[i] + ds[i]
+        ref += dz[i] / (1 + e0) * (cr * np.log10(min(sf, sp) / s0[i])
+                                   + cc * np.log10(max(sf, sp) / sp))
+    assert p.consolidation_settlement_m == pytest.approx(ref, rel=1e-6)
+    assert 0.58 < p.consolidation_settlement_m < 0.65          # the range of a hand calculation
+    assert 0.0 < p.immediate_settlement_m < 0.1 * p.consolidation_settlement_m
+    assert p.final_settlement_m == pytest.approx(
+        p.immediate_settlement_m + p.consolidation_settlement_m + p.secondary_settlement_m)
+    assert "E_u of crust, soft_clay, firm_clay" in p.how_found["immediate"]
