@@ -17,7 +17,10 @@ def test_cam_clay_embankment_yields_and_settles_more_than_its_elastic_twin():
     sim = Simulation(cc)
     r = run(sim)
     its = sim.stepper.iteration_counts()
-    assert np.median(its) <= 4          # the performance target of the Newton path
+    # The performance target of the Newton path. Measured: a median of 4 on the example's
+    # ungraded mesh (1,300 triangles), 5 once the mesh is graded toward the draining
+    # boundaries (1,800 to 3,400 triangles alike), whose thin yielding layers it now resolves.
+    assert np.median(its) <= 5
     lin = run(load_model("examples/embankment.toml"))
     s_cc = r.probe("centre_ground")["settlement_m"][-1]
     s_lin = lin.probe("centre_ground")["settlement_m"][-1]
