@@ -95,7 +95,9 @@ _HINTS = {
                             "than the oedometer parameters",
     ("settlement", "low"): "FE settles less: an FE stiffness stiffer than the oedometer "
                            "parameters, or load carried by stiffer layers and the boundaries",
-    ("t50", "low"): "FE faster: lateral drainage",
+    ("t50", "low"): "FE faster: lateral drainage, or a larger immediate (undrained) part of "
+                    "the FE settlement (its undrained stiffness comes from the drained moduli, "
+                    "the hand method's from the E_u given)",
     ("t50", "high"): "FE slower: longer drainage paths in the FE section (closed sides, an "
                      "undrained footing base) or a lower FE c_v",
     ("t90", "low"): "FE faster: lateral drainage",

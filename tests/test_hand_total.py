@@ -15,8 +15,8 @@ import pytest
 
 from solver.hand import settlement
 from solver.hand.estimate import hand_estimate
-from solver.model import (Drainage, Footing, Layer, Material, Model, OedometerParameters,
-                          PointProbe, Section, Stage, SurfaceLoad, UndrainedParameters, Water)
+from solver.model import (Footing, Layer, Material, Model, OedometerParameters,
+                          PointProbe, Section, Stage, UndrainedParameters, Water)
 
 GW = 9.81
 
