@@ -227,13 +227,18 @@ def mesh_geo_file(path: Path, before_meshing: Callable | None = None) -> Mesh:
         return extract_mesh(gmsh, str(path))
 
 
-def read_mesh(path: str | Path) -> Mesh:
+def read_mesh(path: str | Path, trust_geo: bool = False) -> Mesh:
     """A user's mesh file: a Gmsh ``.msh`` read as it is (:func:`solver.mesh.read_mesh_file`),
     or a ``.geo`` meshed on the fly with Gmsh (second order, :func:`mesh_geo_file`).
 
     Surfaces' physical groups become regions and curves' physical groups become named edges.
+    A ``.geo`` that runs programs, writes files or reads other files is refused unless
+    ``trust_geo`` (see :mod:`solver.geo_script`).
     """
     path = Path(path)
-    if path.suffix == ".geo" and path.exists():
+    if path.suffix.lower() == ".geo" and path.exists():
+        if not trust_geo:
+            from .geo_script import check_geo_file
+            check_geo_file(path)
         return mesh_geo_file(path)
     return read_mesh_file(path)

@@ -297,14 +297,15 @@ def read_mesh_file(path: str | Path) -> Mesh:
     path = Path(path)
     if not path.exists():
         raise MeshError("file not found", source=str(path), fix="check the path to the mesh file.")
-    if path.suffix == ".geo":
+    suffix = path.suffix.lower()
+    if suffix == ".geo":
         raise MeshError("a .geo file is a geometry, not a mesh", source=str(path),
                         fix="read it with solver.geometry.read_mesh, which meshes it with Gmsh.")
     import meshio
     try:
-        m = meshio.read(path, file_format="gmsh") if path.suffix == ".msh" else meshio.read(path)
-    except Exception as exc:  # meshio raises many kinds; turn each into one clear message
-        raise MeshError(f"cannot read the mesh: {exc}", source=str(path),
+        m = meshio.read(path, file_format="gmsh") if suffix == ".msh" else meshio.read(path)
+    except (Exception, SystemExit) as exc:  # meshio raises many kinds (and can exit):
+        raise MeshError(f"cannot read the mesh: {exc}", source=str(path),  # one message
                         fix="give a Gmsh .msh file (format 2.2 or 4.1).") from None
     return mesh_from_meshio(m, source=str(path))
 

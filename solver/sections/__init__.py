@@ -76,7 +76,7 @@ __all__ = ["build_mesh", "embankment_mesh", "footings_mesh", "ground_mesh", "fil
            "FAR_FACTOR", "EDGE_FACTOR"]
 
 
-def build_mesh(model, max_elements: int | None = None) -> Mesh:
+def build_mesh(model, max_elements: int | None = None, trust_geo: bool = False) -> Mesh:
     """Mesh the model's section, choosing the builder by ``model.section.kind``.
 
     Parameters
@@ -85,6 +85,8 @@ def build_mesh(model, max_elements: int | None = None) -> Mesh:
     max_elements : the most triangles allowed (None: ``section.max_elements``, else
         :data:`DEFAULT_MAX_ELEMENTS`); a parametric section estimated above it is refused
         before meshing (:func:`check_element_count`), and the grading never takes it there.
+    trust_geo : mesh a user's ``.geo`` file even when it runs programs or writes files
+        (:func:`solver.geometry.read_mesh`).
 
     Returns
     -------
@@ -97,6 +99,6 @@ def build_mesh(model, max_elements: int | None = None) -> Mesh:
                          source=model.source,
                          fix=f"use one of {sorted(kinds)}.")
     if kind == "mesh":
-        return file_mesh(model)
+        return file_mesh(model, trust_geo=trust_geo)
     plan = section_plan(model, max_elements)
     return plan.mesh(f"{kind} section '{model.title}'")

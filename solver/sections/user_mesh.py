@@ -9,7 +9,7 @@ from ..geometry import mesh_geo_file, read_mesh
 from ..mesh import Mesh
 
 
-def file_mesh(model) -> Mesh:
+def file_mesh(model, trust_geo: bool = False) -> Mesh:
     """The user's mesh file (``.msh`` or ``.geo``), names kept as they are.
 
     A relative path is looked up beside the model file first, then from the working folder.
@@ -24,9 +24,12 @@ def file_mesh(model) -> Mesh:
         if beside.exists():
             path = beside
     sizes = model.section.region_mesh_size
-    if sizes and path.suffix == ".geo" and path.exists():
+    if sizes and path.suffix.lower() == ".geo" and path.exists():
+        if not trust_geo:                 # the same refusal as read_mesh makes
+            from ..geo_script import check_geo_file
+            check_geo_file(path)
         return mesh_geo_file(path, lambda gmsh: _region_sizes(gmsh, sizes, model))
-    return read_mesh(path)
+    return read_mesh(path, trust_geo=trust_geo)
 
 
 def _region_sizes(gmsh, sizes: dict[str, float], model) -> None:
