@@ -10,7 +10,8 @@ ground surface is y = 0. Units: kN, m, kPa, kN/m3, days; permeability in m/day.
 The package by role, each module importing only those before it:
 :mod:`.schema` (dataclasses, fixed choices) -> :mod:`.rules` (how each field is read and
 checked) -> :mod:`.fields` (TOML paths, the value reader) -> :mod:`.domain` (extent, ground
-surface, base, loaded spans) -> :mod:`.checks` (check_model, warnings) -> :mod:`.read`
+surface, base, loaded spans) -> :mod:`.limits` (bounds on names and counts) -> :mod:`.checks`
+(check_model, warnings) -> :mod:`.read`
 (load_model) and :mod:`.write` (model_to_dict, dump_toml).
 """
 

@@ -13,6 +13,7 @@ from ..units import KINDS, describe_value
 from .bounds import check_bounds, check_physical
 from .domain import _is_half, _outside, domain_extent, domain_warnings
 from .fields import _join, _key, _Reader, _suggest
+from .limits import check_limits
 from .rules import (_BERM_RULES, _DRAINAGE_RULES, _EMBANKMENT_RULES, _FOOTING_RULES,
                     _LAYER_RULES, _LINE_RULES, _LOAD_RULES, _MATERIAL_RULES, _MODEL_RULES,
                     _OEDOMETER_RULES, _OUTPUT_RULES, _POSITIVE_DURATION, _PROBE_RULES,
@@ -99,6 +100,7 @@ def check_model(model: Model) -> None:
     fix. Quantities must be plain numbers in the default units.
     """
     _check_fields(model, model, "", _MODEL_RULES)
+    check_limits(model)
     if not model.stages:
         _fail(model, "the model has no stages", "stages",
               "add at least one [[stages]] table, e.g. kind = \"load\", loads = [...], "

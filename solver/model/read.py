@@ -246,7 +246,16 @@ def model_from_toml(text: str, source: str | None = None) -> Model:
                          fix="correct the line named (common slips: a missing quote around a "
                              "value with units such as \"18 kN/m3\", a key given twice, a "
                              "table header given twice).") from None
-    return model_from_dict(data, source=source)
+    except RecursionError:
+        raise InputError("the file nests arrays or tables too deeply to read", source=source,
+                         fix="a model file needs tables at most a few levels deep; remove the "
+                             "nesting.") from None
+    try:
+        return model_from_dict(data, source=source)
+    except RecursionError:
+        raise InputError("the file nests arrays or tables too deeply to read", source=source,
+                         fix="a model file needs tables at most a few levels deep; remove the "
+                             "nesting.") from None
 
 
 def load_model(path: str | Path) -> Model:
