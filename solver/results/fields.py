@@ -2,8 +2,9 @@
 
 from __future__ import annotations
 
+import hashlib
+import io
 import json
-import os
 from dataclasses import dataclass
 from pathlib import Path
 from xml.sax.saxutils import escape, quoteattr
@@ -11,7 +12,7 @@ from xml.sax.saxutils import escape, quoteattr
 import numpy as np
 
 from ..mesh import Mesh
-from .files import FIELDS_DIR, FORMAT, MESH_NAME, ResultsError, _fsync_path, _tmp
+from .files import FIELDS_DIR, FORMAT, MESH_NAME, ResultsError, _atomic_write_bytes
 
 _XDMF_TYPES = {  # numpy dtype -> (XDMF DataType, Precision)
     np.dtype(np.float64): ("Float", 8), np.dtype(np.float32): ("Float", 4),
@@ -62,34 +63,58 @@ class _Step:
     stage: str
     file: str                        # relative to DIR, e.g. "fields/step_000003.h5"
     fields: list                     # [name, stored shape, dtype str, in-plane components]
+    sha256: str = ""                 # of the whole step file
 
     def to_json(self) -> list:
-        return [self.step, self.time_days, self.stage, self.file, self.fields]
+        return [self.step, self.time_days, self.stage, self.file, self.fields, self.sha256]
 
     @classmethod
     def from_json(cls, v) -> "_Step":
         return cls(int(v[0]), float(v[1]), str(v[2]), str(v[3]),
-                   [[f[0], tuple(f[1]), f[2], int(f[3])] for f in v[4]])
+                   [[f[0], tuple(f[1]), f[2], int(f[3])] for f in v[4]], str(v[5]))
 
 
-
-def write_mesh_file(path: Path, mesh: Mesh, fingerprint: str) -> None:
-    """``fields/mesh.h5``: points (n_nodes, 3), cells, region ids and names; atomic."""
+def _h5_bytes(fill) -> bytes:
+    """An HDF5 file built in memory by ``fill(h5file)``: written to disk in one piece by the
+    caller (through a file created exclusively), never by HDF5 opening a path itself."""
     import h5py
-    tmp = _tmp(path)
+    buf = io.BytesIO()
+    with h5py.File(buf, "w") as f:
+        fill(f)
+    return buf.getvalue()
+
+
+def step_file_bytes(step: int, t: float, stage: str, stored: dict) -> bytes:
+    """One output step: an attribute set (format, step, time, stage) and one dataset per
+    field, contiguous and uncompressed, without time stamps (same results, same bytes)."""
+    def fill(f):
+        f.attrs["format"] = FORMAT
+        f.attrs["step"] = step
+        f.attrs["time_days"] = float(t)
+        f.attrs["stage"] = str(stage)
+        for name, (a, plane) in stored.items():
+            ds = f.create_dataset(name, data=a, track_times=False)
+            if plane:
+                ds.attrs["in_plane_components"] = plane
+    return _h5_bytes(fill)
+
+
+def write_mesh_file(path: Path, mesh: Mesh, fingerprint: str, fsync: bool = True) -> str:
+    """``fields/mesh.h5``: points (n_nodes, 3), cells, region ids and names; atomic.
+    Returns the SHA-256 of the file."""
     m = mesh
-    with h5py.File(tmp, "w") as f:
+
+    def fill(f):
         f.attrs["format"] = FORMAT
         f.attrs["region_names"] = json.dumps(list(m.region_names))
         f.attrs["mesh_sha256"] = fingerprint
-        # No time stamps in the files: the same results give the same bytes.
         f.create_dataset("points", data=np.column_stack([m.points, np.zeros(m.n_nodes)]),
                          track_times=False)
         f.create_dataset("cells", data=m.triangles.astype(np.int64), track_times=False)
         f.create_dataset("region_id", data=m.region.astype(np.int64), track_times=False)
-    _fsync_path(tmp)
-    os.replace(tmp, path)
-    _fsync_path(path.parent)
+    data = _h5_bytes(fill)
+    _atomic_write_bytes(path, data, fsync=fsync)
+    return hashlib.sha256(data).hexdigest()
 
 
 def xdmf_grid(mesh: Mesh, s: _Step) -> str:
