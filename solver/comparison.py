@@ -30,7 +30,6 @@ import csv
 import io
 import json
 import math
-import os
 from pathlib import Path
 from typing import Any, Mapping, Sequence
 
@@ -54,6 +53,9 @@ __all__ = [
     "hand_report",
     "compare_run_dir",
     "add_comparison",
+    "comparison_csv_text",
+    "comparison_finisher",
+    "comparison_outputs",
 ]
 
 RATIO_TOLERANCE = 0.20
@@ -285,9 +287,8 @@ def compare(hand, fe_probes: Mapping[str, Mapping[str, Any]] | None,
     return rows
 
 
-def write_comparison_csv(rows: Sequence[Mapping[str, Any]], path: str | Path) -> Path:
-    """Write the rows to ``path`` (columns :data:`COLUMNS`; empty cell = not computed)."""
-    path = Path(path)
+def comparison_csv_text(rows: Sequence[Mapping[str, Any]]) -> str:
+    """The rows as ``comparison.csv`` text (columns :data:`COLUMNS`; empty = not computed)."""
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
     w.writerow(COLUMNS)
@@ -302,9 +303,14 @@ def write_comparison_csv(rows: Sequence[Mapping[str, Any]], path: str | Path) ->
             else:
                 cells.append(str(v))
         w.writerow(cells)
-    tmp = path.with_name(path.name + ".tmp")
-    tmp.write_text(buf.getvalue(), encoding="utf-8")
-    os.replace(tmp, path)
+    return buf.getvalue()
+
+
+def write_comparison_csv(rows: Sequence[Mapping[str, Any]], path: str | Path) -> Path:
+    """Write the rows to ``path`` (columns :data:`COLUMNS`; empty cell = not computed)."""
+    from .results.files import _atomic_write_bytes
+    path = Path(path)
+    _atomic_write_bytes(path, comparison_csv_text(rows).encode("utf-8"), fsync=False)
     return path
 
 
@@ -371,7 +377,7 @@ def compare_run_dir(out_dir: str | Path) -> str:
     """
     from .hand_section import estimate as hand_estimate
     from .model import load_model
-    from .results import read_probes
+    from .results import read_probes, read_summary
     out = Path(out_dir)
     model_path = out / "model.toml"
     if not model_path.exists():
@@ -383,51 +389,78 @@ def compare_run_dir(out_dir: str | Path) -> str:
     model = load_model(model_path)
     hand = hand_estimate(model)
     probes = read_probes(out)
-    summary = None
-    if (out / "summary.json").exists():
-        summary = json.loads((out / "summary.json").read_text(encoding="utf-8"))
+    summary = read_summary(out)
     return format_table(compare(hand, probes, summary))
 
 
-def add_comparison(model, fe_probes: Mapping[str, Mapping[str, Any]], out_dir: str | Path | None = None,
-                   mesh=None) -> tuple[list[dict] | None, str | None]:
-    """The comparison step at the end of a run: hand estimate, rows, and (with ``out_dir``)
-    ``out_dir/comparison.csv``, ``out_dir/hand.json`` (the estimate, :func:`hand_json`) and
-    the ``comparison`` section added to ``out_dir/summary.json``.
+def comparison_outputs(model, fe_probes: Mapping[str, Mapping[str, Any]],
+                       summary: Mapping[str, Any] | None = None, mesh=None):
+    """The comparison step at the end of a run: ``(rows, message, outputs)``.
 
-    The hand method needs parameters the FE run does not (e.g. oedometer data); when it cannot
-    be done the run is not affected: returns ``(None, message)`` and records
-    ``{"skipped": message}`` as the summary's ``comparison``. Otherwise ``(rows, None)``.
-    ``mesh``: the run's mesh, from which a mesh section's soil columns are read.
+    ``outputs`` is what the run folder gets: ``{"summary": {"comparison": section},
+    "files": {"comparison.csv": text, "hand.json": the estimate (:func:`hand_json`)}}``. The
+    hand method needs parameters the FE run does not (e.g. oedometer data); when it cannot
+    be done the run is not affected: ``rows`` is None, ``message`` says why, the section is
+    ``{"skipped": message}`` and no file is written. ``mesh``: the run's mesh, from which a
+    mesh section's soil columns are read.
     """
     from .hand_section import estimate as hand_estimate
-    rows, message = None, None
-    summary_path = Path(out_dir) / "summary.json" if out_dir is not None else None
-    summary = None
-    if summary_path is not None and summary_path.exists():
-        summary = json.loads(summary_path.read_text(encoding="utf-8"))
-    hand = None
+    rows, message, hand = None, None, None
     try:
         hand = hand_estimate(model, mesh=mesh)
         rows = compare(hand, fe_probes, summary)
     except PoroplaneError as exc:
         message = f"no comparison with the hand method: {exc}"
+    section = comparison_section(rows) if rows is not None else {"skipped": message}
+    files = {}
+    if rows is not None:
+        files["comparison.csv"] = comparison_csv_text(rows)
+        files["hand.json"] = json.dumps(hand_json(hand), indent=2, default=_json_default)
+    return rows, message, {"summary": {"comparison": section}, "files": files}
+
+
+def comparison_finisher(model, mesh=None):
+    """For :func:`solver.runner.run` (``finish=``): the comparison written into the run
+    folder with its summary, before the run is marked complete."""
+    def finish(result, summary):
+        return comparison_outputs(model, result.probes, summary, mesh=mesh)[2]
+    return finish
+
+
+def add_comparison(model, fe_probes: Mapping[str, Mapping[str, Any]], out_dir: str | Path | None = None,
+                   mesh=None) -> tuple[list[dict] | None, str | None]:
+    """Hand estimate and rows; with ``out_dir`` (a folder that is not a finished run) also
+    ``out_dir/comparison.csv``, ``out_dir/hand.json`` and the ``comparison`` section of
+    ``out_dir/summary.json``. A run writes its own through :func:`comparison_finisher`.
+    ``mesh``: the run's mesh, from which a mesh section's soil columns are read.
+
+    Returns ``(rows, None)``, or ``(None, message)`` when the hand method cannot be done.
+    """
+    from .results import COMPLETE_NAME, ResultsError
+    summary_path = Path(out_dir) / "summary.json" if out_dir is not None else None
+    if out_dir is not None and (Path(out_dir) / COMPLETE_NAME).exists():
+        raise ResultsError(f"the run in {out_dir} is finished and holds its own comparison "
+                           "(written by the run); it is not rewritten. See it with "
+                           f"'poroplane compare {out_dir}'.")
+    summary = None
+    if summary_path is not None and summary_path.exists():
+        summary = json.loads(summary_path.read_text(encoding="utf-8"))
+    rows, message, outputs = comparison_outputs(model, fe_probes, summary, mesh=mesh)
     if out_dir is not None:
+        from .results.files import write_file_atomic
         out = Path(out_dir)
-        if rows is not None:
-            write_comparison_csv(rows, out / "comparison.csv")
-            _write_json(out / "hand.json", hand_json(hand))
+        for name, text in outputs["files"].items():
+            write_file_atomic(out / name, text.encode("utf-8"))
         if summary is not None:
-            summary["comparison"] = comparison_section(rows) if rows is not None else {"skipped": message}
+            summary.update(outputs["summary"])
             _write_json(summary_path, summary)
     return rows, message
 
 
 def _write_json(path: Path, data) -> None:
-    """Write ``data`` as JSON atomically (a temporary file renamed)."""
-    tmp = path.with_name(path.name + ".tmp")
-    tmp.write_text(json.dumps(data, indent=2, default=_json_default), encoding="utf-8")
-    os.replace(tmp, path)
+    """Write ``data`` as JSON atomically (a new file renamed, never through a link)."""
+    from .results.files import write_file_atomic
+    write_file_atomic(path, json.dumps(data, indent=2, default=_json_default).encode("utf-8"))
 
 
 def _json_default(obj):
