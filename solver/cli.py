@@ -12,6 +12,8 @@ from .boundary import describe_written, run_step, step
 from .errors import PoroplaneError
 
 EXIT_BAD_INPUT = 2
+TRUST_GEO_HELP = ("mesh a .geo mesh file even if it runs programs, writes files or reads other "
+                  "files (only for a file you wrote or whose author you trust)")
 CASES = ("terzaghi", "mandel", "axisymmetric", "strip_load", "convergence",
          "camclay_isotropic", "camclay_drained", "camclay_undrained", "camclay_oedometer")
 
@@ -86,7 +88,8 @@ def _set_up(args, model, backend=None):
     from .sections import build_mesh
     from .simulation import Simulation
     with step("meshing", args.model, model):
-        mesh = build_mesh(model, max_elements=args.max_elements)
+        mesh = build_mesh(model, max_elements=args.max_elements,
+                          trust_geo=getattr(args, "trust_geo", False))
     with step("set-up", args.model, model):
         return Simulation(model, mesh=mesh, backend=backend)
 
@@ -135,7 +138,7 @@ def _mesh(args) -> int:
                          + ", e.g. -o section.msh.")
     model = _load(args.model)
     with step("meshing", args.model, model):
-        mesh = build_mesh(model, max_elements=args.max_elements)
+        mesh = build_mesh(model, max_elements=args.max_elements, trust_geo=args.trust_geo)
     with step(f"writing {args.output}", args.model):
         mesh.write(args.output)
     print(f"wrote {args.output}: {mesh.n_elements} triangles, {mesh.n_nodes} nodes, "
@@ -143,38 +146,105 @@ def _mesh(args) -> int:
     return 0
 
 
+class Terminated(KeyboardInterrupt):
+    """SIGTERM turned into an interruption, so a run stops at a clean point with a message."""
+
+
+def default_output(model_path: str) -> Path:
+    """The run folder when ``-o`` is not given: ``MODEL_results`` in the current folder."""
+    return Path.cwd() / f"{Path(model_path).stem}_results"
+
+
+def _resume_hint(args, out: Path) -> str:
+    """The command that continues this run: the user's own words, with --resume and -o."""
+    import shlex
+    words = list(getattr(args, "argv", None) or [])
+    words = [w for w in words if w not in ("--force", "--resume")]
+    if args.output is None:
+        words += ["-o", str(out)]
+    return shlex.join(["poroplane"] + words + ["--resume"])
+
+
+def _run_checks(args) -> None:
+    """Every argument checked before the run folder is touched."""
+    from .errors import InputError
+    if args.resume and args.force:
+        raise InputError("--resume and --force exclude each other", field="--force",
+                         fix="give --resume to continue the run in the folder, or --force "
+                             "to replace it.")
+    if args.linear_solver is not None:
+        from .linalg import available_backends
+        names = available_backends()
+        if args.linear_solver not in names:
+            raise InputError(f"unknown linear solver {args.linear_solver!r}",
+                             field="--linear-solver", fix=f"use one of {', '.join(names)}.")
+
+
+def _on_term(signum, frame):
+    raise Terminated()
+
+
 def _run(args) -> int:
-    from .runner import run
+    import signal
+    _run_checks(args)
+    old = signal.signal(signal.SIGTERM, _on_term)
+    try:
+        return _run_with(args)
+    finally:
+        signal.signal(signal.SIGTERM, old)
+
+
+def _run_with(args) -> int:
+    import signal
+    from .comparison import comparison_outputs, format_table
     from .model import dump_toml
+    from .results import check_output_folder
+    from .runner import Runner
     model = _load(args.model)
     if args.times:
         _add_output_times(args, model)
+    out = Path(args.output) if args.output is not None else default_output(args.model)
+    check_output_folder(out, resume=args.resume, force=args.force)   # before any meshing
     # The model as read (units converted, paths resolved), so the run folder stands alone.
     text = (f"# The model as poroplane read it from {Path(args.model).resolve()}\n"
             "# (quantities in the default units, paths absolute).\n" + dump_toml(model))
     for w in _warnings(model):
         print(f"warning: {w}", file=sys.stderr)
     sim = _set_up(args, model, backend=args.linear_solver)
-    out = Path(args.output)
     print(f"{model.title}: {sim.mesh.n_elements} triangles, {sim.problem.disc.n_dofs} unknowns, "
-          f"{len(model.stages)} stages -> {out}/", file=sys.stderr)
+          f"{len(model.stages)} stages -> {out}{'/' if str(out)[-1:] != '/' else ''}",
+          file=sys.stderr)
+    seen = {}
+
+    def finish(result, summary):       # the comparison, written before the run is complete
+        seen["rows"], seen["message"], extra = comparison_outputs(model, result.probes,
+                                                                  summary, mesh=sim.mesh)
+        return extra
+
+    runner = Runner(sim, out, resume=args.resume, force=args.force, progress=not args.quiet,
+                    model_text=text, finish=finish)
+    signal.signal(signal.SIGTERM, _on_term)      # again: meshing (gmsh) resets the handler
     try:
         with step("stepping", args.model, model, written=lambda: describe_written(out),
                   classify=run_step):
-            result = run(sim, out, resume=args.resume, progress=not args.quiet,
-                         model_text=text)
-    except KeyboardInterrupt:
-        print(f"interrupted: finished steps are kept in {out}/; continue with "
-              f"'poroplane run {args.model} -o {out} --resume'", file=sys.stderr)
-        return 130
-    from .comparison import add_comparison, format_table
+            result = runner.run()
+    except KeyboardInterrupt as exc:
+        what = "terminated (SIGTERM)" if isinstance(exc, Terminated) else "interrupted"
+        print(f"{what}: finished steps are kept in {out}/; continue with "
+              f"'{_resume_hint(args, out)}'", file=sys.stderr)
+        return 143 if isinstance(exc, Terminated) else 130
+    if runner.note:
+        print(f"note: {runner.note}", file=sys.stderr)
+    if result.info.get("already_complete"):
+        print(f"the run in {out.resolve()} is already complete; nothing was solved. See it "
+              f"with 'poroplane compare {out}' or 'poroplane report {out}'.")
+        print(CAUTION)
+        return 0
     done = f"The run is complete in {out}/."
-    with step("the hand-method comparison", args.model, model, written=done):
-        rows, message = add_comparison(model, result.probes, out, mesh=sim.mesh)
-    if rows is None:
-        print(f"warning: no hand-method comparison: {message}", file=sys.stderr)
+    if seen.get("rows") is None:
+        print(f"warning: {seen.get('message')}", file=sys.stderr)
     else:
-        print(format_table(rows))
+        print(format_table(seen["rows"]))
     for st in result.info.get("stages", []):
         if "until_degree" in st:
             print(f"stage {st['name']!r}: " + until_degree_text(st))
@@ -186,8 +256,8 @@ def _run(args) -> int:
         print(residual_table(probe_summary(result.probes,
                                            residual_after=model.output.residual_after)))
     print(f"results in {out.resolve()}: results.xdmf (ParaView), probes.csv, lines.csv, "
-          f"summary.json, comparison.csv, hand.json ({result.info['steps']} steps, "
-          f"{result.info['wall_seconds']:.1f} s)")
+          f"summary.json{', comparison.csv, hand.json' if seen.get('rows') is not None else ''}"
+          f" ({result.info['steps']} steps, {result.info['wall_seconds']:.1f} s)")
     if model.stability is not None:
         with step("the stability checks", args.model, model, written=done):
             _stability_table(out)
@@ -343,19 +413,26 @@ def build_parser() -> argparse.ArgumentParser:
                         help="refuse a section estimated above N triangles before meshing "
                              "(default: section.max_elements, else 3,000,000)")
 
-    max_elements(command("check", _check, "read, check and mesh a model file; solve nothing",
-                         model))
+    c = command("check", _check, "read, check and mesh a model file; solve nothing", model)
+    max_elements(c)
+    c.add_argument("--trust-geo", action="store_true", help=TRUST_GEO_HELP)
 
     m = command("mesh", _mesh, "write the mesh of a model", model)
     m.add_argument("-o", "--output", required=True,
                    help="mesh file to write: .msh (Gmsh 2.2), .vtu or .vtk")
     max_elements(m)
+    m.add_argument("--trust-geo", action="store_true", help=TRUST_GEO_HELP)
 
     r = command("run", _run, "solve a model through its stages, streaming results", model)
     max_elements(r)
-    r.add_argument("-o", "--output", required=True, help="folder for the results")
+    r.add_argument("-o", "--output", default=None,
+                   help="folder for the results (default: MODEL_results in the current "
+                        "folder, named after the model file)")
     r.add_argument("--resume", action="store_true",
                    help="continue an interrupted run from its last finished step")
+    r.add_argument("--force", action="store_true",
+                   help="replace a run the folder already holds (the old one is kept aside "
+                        "until the new one is complete)")
     r.add_argument("--mesh-study", action="store_true",
                    help="also solve on a uniformly refined mesh and report the change")
     r.add_argument("--linear-solver", default=None, help="sparse direct solver backend")
@@ -365,6 +442,7 @@ def build_parser() -> argparse.ArgumentParser:
     r.add_argument("--times", nargs="+", metavar="TIME",
                    help="also store the fields and lines at these times exactly (added to "
                         "[output] times): days, or with units (\"2 years\")")
+    r.add_argument("--trust-geo", action="store_true", help=TRUST_GEO_HELP)
 
     times_help = ("times for the isochrones, troughs, inclinometer and pictures: days, or "
                   "with units (\"2 years\"; commas separate several); each is drawn at the "
@@ -401,6 +479,7 @@ def build_parser() -> argparse.ArgumentParser:
 def main(argv: list[str] | None = None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
+    args.argv = list(sys.argv[1:] if argv is None else argv)
     try:
         return args.func(args)
     except PoroplaneError as exc:
@@ -408,9 +487,9 @@ def main(argv: list[str] | None = None) -> int:
             raise
         print(f"poroplane: error: {exc}", file=sys.stderr)
         return EXIT_BAD_INPUT
-    except KeyboardInterrupt:
+    except KeyboardInterrupt as exc:
         print("poroplane: interrupted", file=sys.stderr)
-        return 130
+        return 143 if isinstance(exc, Terminated) else 130
     except Exception as exc:  # noqa: BLE001 - the last boundary: no raw traceback
         if args.debug:
             raise

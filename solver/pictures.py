@@ -26,7 +26,6 @@ compare honestly. Limits are shared by all the times of one quantity.
 from __future__ import annotations
 
 import functools
-import json
 import math
 import os
 import subprocess
@@ -207,11 +206,10 @@ def _surface_polydata(xy: np.ndarray, tris: np.ndarray):
 
 
 def read_section(run_dir: Path) -> Section:
-    import h5py
-    with h5py.File(Path(run_dir) / "fields" / "mesh.h5", "r") as f:
-        return Section(f["points"][:, :2].astype(float), f["cells"][()].astype(np.int64),
-                       f["region_id"][()].astype(np.int64),
-                       list(json.loads(f.attrs["region_names"])))
+    from .results import read_mesh_file
+    points, cells, region, names = read_mesh_file(run_dir)     # checked against the record
+    return Section(points.astype(float), cells.astype(np.int64), region.astype(np.int64),
+                   list(names))
 
 
 # ========================================================================= colours, levels
@@ -656,7 +654,8 @@ def make_pictures(run_dir: str | Path, out_dir: str | Path | None = None,
     if not ok:
         warnings.warn(why, RenderingUnavailable, stacklevel=2)
         return []
-    out.mkdir(parents=True, exist_ok=True)
+    from .results.files import make_folder
+    make_folder(out)
     model = None
     if (d / "model.toml").exists():
         try:

@@ -12,13 +12,14 @@ beside the finite-element ones.
 
 from __future__ import annotations
 
-import json
 import math
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
 import numpy as np
+
+from .results.files import INITIAL_STAGE
 
 __all__ = ["StageSpan", "RunData", "load_run", "hand_curves", "surface_probes"]
 
@@ -75,13 +76,6 @@ class RunData:
                 if profs and self.line_kind(n) == kind]
 
 
-def _read_json(path: Path) -> dict:
-    try:
-        return json.loads(path.read_text())
-    except (OSError, ValueError):
-        return {}
-
-
 def _stage_spans(probes: dict, model) -> list[StageSpan]:
     """Stage start and end times from the stage column of probes.csv (model order first)."""
     ends: dict[str, float] = {}
@@ -89,6 +83,8 @@ def _stage_spans(probes: dict, model) -> list[StageSpan]:
     for cols in probes.values():
         for t, s in zip(cols["time_days"], cols["stage"]):
             s = str(s)
+            if s == INITIAL_STAGE:               # the state at t = 0, before any stage
+                continue
             if s not in ends:
                 order.append(s)
                 ends[s] = float(t)
@@ -109,17 +105,19 @@ def _stage_spans(probes: dict, model) -> list[StageSpan]:
 
 def load_run(run_dir: str | Path, hand: bool = True) -> RunData:
     """Read a run folder for plotting; the model copy and the hand method when available."""
-    from .results import read_lines, read_probes
+    from .results import (read_lines, read_probes, read_summary, read_text_file,
+                          verify_run_folder)
     d = Path(run_dir)
     if not (d / "probes.csv").exists():
         from .results import ResultsError
         raise ResultsError(f"{d} holds no run results (probes.csv is missing); "
                            f"make one with 'poroplane run MODEL -o {d}'")
+    verify_run_folder(d)             # a damaged file is named before anything is drawn
     probes = read_probes(d)
     lines = read_lines(d) if (d / "lines.csv").exists() else {}
-    summary = _read_json(d / "summary.json")
+    summary = read_summary(d) or {}
     model, note = None, ""
-    if (d / "model.toml").exists():
+    if read_text_file(d, "model.toml") is not None:      # checked against the run record
         try:
             from .model import load_model
             model = load_model(d / "model.toml")

@@ -8,7 +8,6 @@ times drawn are chosen by :func:`profile_indices`.
 
 from __future__ import annotations
 
-import json
 from pathlib import Path
 
 import numpy as np
@@ -16,15 +15,14 @@ import numpy as np
 from . import plot_style as style
 from .plot_data import RunData, surface_probes
 from .plot_times import default_profile_times
+from .results.files import safe_name
 
 __all__ = ["plot_isochrones", "plot_troughs", "profile_indices"]
 
 
 def _mesh_arrays(run_dir: Path):
-    import h5py
-    with h5py.File(run_dir / "fields" / "mesh.h5", "r") as f:
-        return (f["points"][:, :2], f["cells"][()], f["region_id"][()],
-                json.loads(f.attrs["region_names"]))
+    from .results import read_mesh_file
+    return read_mesh_file(run_dir)
 
 
 def _regions_along(run: RunData, x: np.ndarray, y: np.ndarray):
@@ -130,7 +128,7 @@ def plot_isochrones(run: RunData, out: Path, times=None) -> list[Path]:
         x0 = float(p0["x_m"][0])
         fig.suptitle(f"Isochrones of excess pore pressure along '{name}' (x = {x0:g} m)",
                      fontsize=11.5)
-        paths.append(style.finish(fig, out / f"isochrones_{name}.png",
+        paths.append(style.finish(fig, out / f"isochrones_{safe_name(name)}.png",
                                   "Dashed lines: boundaries between regions of the mesh. Excess "
                                   "pore pressure: above the steady pore pressure at the start "
                                   "(hydrostatic unless piezometric levels are given), positive "
@@ -233,5 +231,5 @@ def plot_troughs(run: RunData, out: Path, times=None) -> list[Path]:
         fig.suptitle(f"Settlement trough along '{name}': {run.title}", fontsize=11.5)
         note = ("Negative settlement is heave. Triangles and dotted lines: probes on the "
                 "ground surface or on a footing base.")
-        paths.append(style.finish(fig, out / f"trough_{name}.png", note))
+        paths.append(style.finish(fig, out / f"trough_{safe_name(name)}.png", note))
     return paths

@@ -12,6 +12,8 @@ state, no window, safe in a script, a test or a server.
 
 from __future__ import annotations
 
+import io
+
 import math
 import textwrap
 from pathlib import Path
@@ -87,12 +89,15 @@ def finish(fig, path: Path, note: str = "", tight: bool = False) -> Path:
              va="bottom", linespacing=1.32)
     fig.get_layout_engine().set(h_pad=0.05, w_pad=0.05, rect=(0, frac, 1, 1 - frac))
     _place_stage_labels(fig)
-    path.parent.mkdir(parents=True, exist_ok=True)
+    from .results.files import make_folder, write_file_atomic
+    make_folder(path.parent)
+    buf = io.BytesIO()   # written whole through a new file, never through a planted link
     if tight:        # crop the blank margins a fixed-aspect picture leaves
-        fig.savefig(path, dpi=DEFAULT_DPI, facecolor="white", bbox_inches="tight",
-                    pad_inches=0.12)
+        fig.savefig(buf, format="png", dpi=DEFAULT_DPI, facecolor="white",
+                    bbox_inches="tight", pad_inches=0.12)
     else:
-        fig.savefig(path, dpi=DEFAULT_DPI, facecolor="white")
+        fig.savefig(buf, format="png", dpi=DEFAULT_DPI, facecolor="white")
+    write_file_atomic(path, buf.getvalue())
     return path
 
 

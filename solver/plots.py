@@ -53,8 +53,8 @@ def make_plots(run_dir: str | Path, out_dir: str | Path | None = None,
 def plots_of(run: RunData, out_dir: str | Path | None = None,
              times: Sequence[float] | None = None) -> list[Path]:
     """:func:`make_plots` for run data already read (:func:`load_run`)."""
-    out = Path(out_dir) if out_dir is not None else run.dir / PLOTS_DIR
-    out.mkdir(parents=True, exist_ok=True)
+    from .results.files import make_folder
+    out = make_folder(Path(out_dir) if out_dir is not None else run.dir / PLOTS_DIR)
     paths: list[Path] = []
     paths += plot_settlement_time(run, out)
     paths += plot_pore_pressure_time(run, out)

@@ -19,9 +19,9 @@ import base64
 import csv
 import datetime as _dt
 import html
+import io
 import json
 import math
-import os
 import time
 import warnings
 from pathlib import Path
@@ -30,6 +30,7 @@ from typing import Any, Iterable, Sequence
 import numpy as np
 
 from . import CAUTION, __version__
+from .results.files import write_file_atomic
 
 __all__ = ["write_report", "report_command", "validation_status", "REPORT_NAME",
            "VALIDATION_NAME", "SECTION_IDS"]
@@ -174,9 +175,7 @@ def validation_status(run_dir: str | Path | None = None, *, refresh: bool = Fals
         data["error"] = f"{type(exc).__name__}: {exc}"
     data["wall_seconds"] = time.perf_counter() - t0
     if cache is not None and "error" not in data:
-        tmp = cache.with_name(cache.name + ".tmp")
-        tmp.write_text(json.dumps(data, indent=1), encoding="utf-8")
-        os.replace(tmp, cache)
+        write_file_atomic(cache, json.dumps(data, indent=1).encode("utf-8"))
     data["cached"] = False
     return data
 
@@ -396,19 +395,20 @@ _COMPARE_HEAD = (
 
 
 def _read_comparison_csv(path: Path) -> list[dict]:
+    from .results import read_text_file
     rows = []
-    with open(path, newline="", encoding="utf-8") as f:
-        for r in csv.DictReader(f):
-            row: dict[str, Any] = {}
-            for k, v in r.items():
-                if k in ("probe", "hints", "notes"):
+    text = read_text_file(path.parent, path.name) or ""     # checked against the run record
+    for r in csv.DictReader(io.StringIO(text)):
+        row: dict[str, Any] = {}
+        for k, v in r.items():
+            if k in ("probe", "hints", "notes"):
+                row[k] = v
+            else:
+                try:
+                    row[k] = float(v) if v not in ("", None) else None
+                except ValueError:
                     row[k] = v
-                else:
-                    try:
-                        row[k] = float(v) if v not in ("", None) else None
-                    except ValueError:
-                        row[k] = v
-            rows.append(row)
+        rows.append(row)
     return rows
 
 
@@ -515,10 +515,11 @@ def _differential_html(run) -> str:
 # ============================================================================= run data
 def _run_html(run) -> str:
     info = (run.summary or {}).get("run", {})
+    from .results import ResultsError, read_text_file
     rj = {}
     try:
-        rj = json.loads((run.dir / "run.json").read_text(encoding="utf-8"))
-    except (OSError, ValueError):
+        rj = json.loads(read_text_file(run.dir, "run.json") or "{}")
+    except (ResultsError, ValueError):
         pass
     sessions = rj.get("sessions") or []
     started = sessions[0].get("started_utc") if sessions else None
@@ -715,9 +716,7 @@ def write_report(run_dir: str | Path, *, validation: dict | str | Path | bool | 
                  "settlement positive downward, pore pressure positive in compression.</footer>")
     parts.append("</main></body></html>")
     out = d / REPORT_NAME
-    tmp = out.with_name(out.name + ".tmp")
-    tmp.write_text("\n".join(parts), encoding="utf-8")
-    os.replace(tmp, out)
+    write_file_atomic(out, "\n".join(parts).encode("utf-8"))    # never through a link
     return out
 
 
