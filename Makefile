@@ -24,7 +24,7 @@ system-test:
 	bash tools/system-packages.sh test
 
 demo: system-pictures $(STAMP)
-	MPLBACKEND=Agg $(BIN)/poroplane run examples/embankment.toml -o $(DEMO_OUT)
+	MPLBACKEND=Agg $(BIN)/poroplane run examples/embankment.toml -o $(DEMO_OUT) --force
 	MPLBACKEND=Agg $(BIN)/poroplane report $(DEMO_OUT)
 	@echo "The demo's results are in $(CURDIR)/$(DEMO_OUT)/: report.html (open it in a browser),"
 	@echo "plots/ (PNG), results.xdmf (ParaView), probes.csv, summary.json, comparison.csv."

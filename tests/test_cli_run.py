@@ -151,7 +151,10 @@ def test_run_writes_every_output(embankment, reference):
     assert all(c in TEXT_COLUMNS or c.endswith(units) for c in PROBE_COLUMNS + LINE_COLUMNS)
     summary = json.loads((out / "summary.json").read_text())
     run = summary["run"]
-    assert len(probes["time_days"]) == N_PROBES * run["steps"]
+    assert len(probes["time_days"]) == N_PROBES * (run["steps"] + 1)   # and the state at t = 0
+    assert list(probes["stage"][:N_PROBES]) == ["initial state"] * N_PROBES
+    assert (probes["time_days"][:N_PROBES] == 0).all()
+    assert (probes["settlement_m"][:N_PROBES] == 0).all()
     lines = table(out / "lines.csv", LINE_COLUMNS)
     assert set(lines["line"]) == {"ground_surface", "centre_line"}
     # summary: run data and, per probe, the final settlement, t50, t90, largest excess p

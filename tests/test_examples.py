@@ -90,7 +90,8 @@ def test_embankment_of_make_demo_runs_through_every_stage_on_a_coarse_mesh():
     model = coarse("embankment.toml", mesh_size=3.0)
     result = run(model)
     assert result.stage[-1] == model.stages[-1].name
-    assert set(result.stage) == {s.name for s in model.stages}
+    assert set(result.stage) == {s.name for s in model.stages} | {"initial state"}
+    assert result.stage[0] == "initial state" and result.time_days[0] == 0.0
     total = sum(s.duration for s in model.stages)
     assert result.time_days[-1] <= total + 1e-9
     s = probe_summary(result.probes)

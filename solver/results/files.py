@@ -54,7 +54,8 @@ REPLACED_DIR = ".replaced"         # a previous run moved aside while --force re
 # Written by a run (and by the plots and report of a run): moved aside when a run replaces it.
 _OWNED = (XDMF_NAME, PROBES_NAME, LINES_NAME, HISTORY_NAME, CHECKPOINT_NAME, SUMMARY_NAME,
           RUN_NAME, COMPLETE_NAME)
-DERIVED = ("comparison.csv", "model.toml", "plots", "pictures", "report.html")
+DERIVED = ("comparison.csv", "hand.json", "model.toml", "plots", "pictures", "report.html",
+           "validation.json")
 _STEP_RE = re.compile(r"^step_(\d{6,})\.h5$")
 _NAME_RE = re.compile(r"^[A-Za-z0-9_.\-]+$")
 _FLOAT_FORMAT = ".12g"  # 12 significant digits: exact enough, short enough to read
