@@ -483,14 +483,26 @@ class BiotProblem:
         if c.ordering is None:
             from ..linalg import Ordering
             # Constraint sets on the same nodes (the undrained instant and the consolidating
-            # steps differ in a few pressure dofs only) share one nested dissection.
-            nodes = np.zeros(self.mesh.n_nodes, dtype=bool)
-            nodes[c.node_of_reduced] = True
-            key = np.packbits(nodes).tobytes()
+            # steps differ in a few pressure dofs only) share one nested dissection: that of
+            # the consolidating set, whichever comes first, so the order (and the last digits
+            # of the results) never depend on the history (a resumed run repeats its bytes).
+            def node_key(cs):
+                nodes = np.zeros(self.mesh.n_nodes, dtype=bool)
+                nodes[cs.node_of_reduced] = True
+                return np.packbits(nodes).tobytes()
+            key = node_key(c)
             ranks = self.__dict__.setdefault("_node_ranks", {})
+            if key not in ranks:
+                ref = self.constraints(1.0)
+                if ref is not c and node_key(ref) == key:
+                    ref_rank = Ordering.from_groups(ref.node_of_reduced,
+                                                    self.disc.node_graph).node_rank
+                else:
+                    ref_rank = None
+                ranks.clear()
+                ranks[key] = ref_rank
             c.ordering = Ordering.from_groups(c.node_of_reduced, self.disc.node_graph,
-                                              node_rank=ranks.get(key))
-            ranks.clear()
+                                              node_rank=ranks[key])
             ranks[key] = c.ordering.node_rank
         return c.ordering
 
