@@ -200,7 +200,7 @@ def test_a_failure_in_stepping_keeps_the_finished_steps(tmp_path, monkeypatch, c
     assert "stepping failed (FloatingPointError: overflow" in err and "small.toml" in err
     assert f"kept in {out}/" in err and "probes.csv" in err
     rows = (out / "probes.csv").read_text().strip().splitlines()
-    assert len(rows) == 1 + 3          # the header and the three finished steps
+    assert len(rows) == 1 + 1 + 3      # the header, the state at t = 0, three finished steps
 
 
 def test_a_failure_in_plotting_keeps_the_finished_run(tmp_path, monkeypatch, capsys):

@@ -2,7 +2,8 @@
 
 A name is written into every row of a result table and may become part of a file name (a
 plot per line), so it is kept short and printable; counts are bounded so that a typo (an
-extra zero) is a clear message rather than hours of work and gigabytes on disk.
+extra zero) is a clear message rather than hours of work and gigabytes on disk. (Points per
+line and output times are bounded with the other slips, in :mod:`.bounds`.)
 """
 
 from __future__ import annotations
@@ -14,9 +15,7 @@ from .schema import Model
 MAX_NAME_CHARS = 64
 MAX_PROBES = 100_000
 MAX_LINES = 1_000
-MAX_LINE_POINTS = 10_000
 MAX_STAGES = 1_000
-MAX_OUTPUT_TIMES = 10_000
 RESERVED_STAGE_NAMES = ("initial state",)   # the rows at t = 0, before any stage
 
 
@@ -47,7 +46,6 @@ def check_limits(model: Model) -> None:
     _count(model, len(model.probes), MAX_PROBES, "probes", "point probes")
     _count(model, len(model.lines), MAX_LINES, "lines", "lines")
     _count(model, len(model.stages), MAX_STAGES, "stages", "stages")
-    _count(model, len(model.output.times), MAX_OUTPUT_TIMES, "output.times", "output times")
     for name in model.materials:
         _name(model, name, _join("materials", name) if len(name) <= 80 else "materials")
     for group, items in (("layers", model.layers), ("loads", model.loads),
@@ -63,7 +61,3 @@ def check_limits(model: Model) -> None:
             _fail(model, f"the stage name {st.name!r} is the one results give the state "
                          "before the first stage", f"stages[{i + 1}].name",
                   "give the stage another name.")
-    for i, ln in enumerate(model.lines):
-        if isinstance(ln.points, int) and ln.points > MAX_LINE_POINTS:
-            _fail(model, f"{ln.points:,} points, more than {MAX_LINE_POINTS:,}",
-                  f"lines[{i + 1}].points", f"give at most {MAX_LINE_POINTS:,} points.")
