@@ -17,7 +17,7 @@ import pytest
 
 from solver import CAUTION, runner
 from solver.comparison import (COLUMNS, REASONS, RATIO_TOLERANCE, add_comparison, compare,
-                               comparison_finisher,
+                               comparison_finisher, comparison_outputs,
                                compare_run_dir, comparison_section, format_table, hand_report,
                                write_comparison_csv)
 from solver.hand.estimate import hand_estimate
@@ -142,7 +142,7 @@ def test_run_folder_comparison(tmp_path):
     result = runner.run(m, out, model_text=dump_toml(m), finish=comparison_finisher(m))
     table = compare_run_dir(out)
     assert "top" in table and "mid" in table and CAUTION in table
-    rows, message = add_comparison(m, result.probes)
+    rows, message, _ = comparison_outputs(m, result.probes, summary_of(out))
     assert message is None
     top = {r["probe"]: r for r in rows}["top"]
     assert top["settlement_ratio_fe_to_hand"] == pytest.approx(1.0, abs=0.01)
