@@ -93,9 +93,16 @@ class Runner:
             pb.activate([region], x)
             self.placed_at.append(x.copy())
             sim.ramps[region].set(t0, st.duration, 1.0)
+        elif st.kind == "remove":
+            sim.ramps[self._region(st)].set(t0, st.duration, 0.0)
         elif st.kind == "load":
             for name in st.loads:   # names were checked when the model was read
                 sim.ramps[name].set(t0, st.duration, st.factor)
+
+    @staticmethod
+    def _region(st) -> str:
+        """The region a lift or remove stage places or takes away."""
+        return st.region or f"lift_{st.lift}"
 
     def run(self) -> RunResult:
         sim, model = self.sim, self.sim.model
@@ -117,7 +124,7 @@ class Runner:
 
     def _run(self, writer, solver, wall0) -> RunResult:
         sim, pb, model = self.sim, self.sim.problem, self.sim.model
-        state = State(0.0, np.zeros(pb.disc.n_dofs), pb.disc.n_u)
+        state = State(0.0, pb.initial_unknowns(), pb.disc.n_u)
         info = {"stage": 0, "stage_step": 0, "stage_starts": [], "step": 0, "p_ref": None,
                 "w_peak": 0.0, "w_now": 0.0, "until": {},
                 "factorizations_before": 0, "wall_seconds_before": 0.0, "sessions": 1}
@@ -134,6 +141,8 @@ class Runner:
             for k, t0 in enumerate(info["stage_starts"]):
                 x_k = next(placed) if model.stages[k].kind == "lift" else state.x
                 self._start_stage(k, t0, x_k)
+                if model.stages[k].kind == "remove" and k < info["stage"]:
+                    pb.deactivate([self._region(model.stages[k])])
             if hasattr(solver, "restore"):
                 solver.restore(arrays)
             newton_before = arrays.get("run_newton_iterations", newton_before)
@@ -162,6 +171,9 @@ class Runner:
                 t0 = info["stage_starts"][k]
                 times = sim.stage_times(t0, st)
                 for t in times[info["stage_step"]:]:
+                    if st.kind == "remove" and info["stage_step"] == len(times) - 1:
+                        # the removed elements go for the last step, when their weight is off
+                        pb.deactivate([self._region(st)])
                     state = solver.step(state, float(t))
                     info["step"] += 1
                     info["stage_step"] += 1
@@ -331,6 +343,10 @@ class Runner:
                                            result.info["average_degree_of_consolidation_at_end"],
                                            result.info["largest_excess_pore_water_days"],
                                            self.sim.model.output.residual_after)}
+        if self.sim.oedometer_moduli:       # the moduli the FE took from the oedometer
+            from .oedometer_stiffness import moduli_csv, moduli_rows
+            summary["oedometer_moduli"] = moduli_rows(self.sim.oedometer_moduli)
+            writer.write_text("oedometer_moduli.csv", moduli_csv(self.sim.oedometer_moduli))
         extra = self.finish(result, summary) if self.finish is not None else {}
         summary.update(extra.get("summary", {}))
         for name, text in extra.get("files", {}).items():

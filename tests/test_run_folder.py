@@ -548,3 +548,18 @@ def test_a_folder_of_an_earlier_version_is_read_but_not_resumed(tmp_path):
     with pytest.raises(ResultsError, match="another version of poroplane; it is kept"):
         run(column(), out)
     run(column(), out, force=True)
+
+
+def test_a_finished_run_is_added_to_under_its_lock_and_stays_checked(tmp_path):
+    from solver.results import amend_run, verify_run_folder
+    out = tmp_path / "run"
+    run(column(), out)
+    amend_run(out, {"extra.json": "{}\n"}, {"extra": {"a": 1}})
+    record = verify_run_folder(out)                 # every file still matches the marker
+    assert record.finished and "extra.json" in record.files
+    assert read_summary(out)["extra"] == {"a": 1}
+    with pytest.raises(ResultsError, match="cannot be added"):
+        amend_run(out, {"probes.csv": "x"})
+    interrupted(column(), tmp_path / "cut")
+    with pytest.raises(ResultsError, match="is not finished"):
+        amend_run(tmp_path / "cut", {"extra.json": "{}"})

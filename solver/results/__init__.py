@@ -60,11 +60,12 @@ from .read import (FieldSeries, field_step_files, read_fields, read_lines, read_
                    read_probes, read_summary, read_text_file)
 from .summary import (NOT_REACHED, T50_T90, primary_settlement, primary_times, probe_summary,
                       residual_settlement, time_to_fraction)
+from .amend import amend_run
 from .verify import run_record, verify_run_folder
 from .writer import ResultWriter, check_output_folder
 
 __all__ = [
-    "CHECKPOINT_NAME", "COMPLETE_NAME", "FIELDS_DIR", "FORMAT", "HISTORY_NAME", "INITIAL_STAGE",
+    "amend_run", "CHECKPOINT_NAME", "COMPLETE_NAME", "FIELDS_DIR", "FORMAT", "HISTORY_NAME", "INITIAL_STAGE",
     "LINE_COLUMNS", "LINES_NAME", "LOCK_NAME", "MESH_NAME", "PROBE_COLUMNS", "PROBES_NAME",
     "RUN_NAME", "SUMMARY_NAME", "TEXT_COLUMNS", "XDMF_NAME", "FieldSeries", "ResultWriter",
     "ResultsError", "check_output_folder", "field_step_files", "mesh_fingerprint",

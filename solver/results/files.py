@@ -23,6 +23,11 @@ import numpy as np
 from ..errors import PoroplaneError
 from ..mesh import Mesh
 
+try:  # POSIX only; without it the writer still works, unguarded against a second writer.
+    import fcntl
+except ImportError:  # pragma: no cover - Windows
+    fcntl = None
+
 FORMAT = "poroplane results 2"
 
 PROBE_COLUMNS = (
@@ -54,8 +59,8 @@ REPLACED_DIR = ".replaced"         # a previous run moved aside while --force re
 # Written by a run (and by the plots and report of a run): moved aside when a run replaces it.
 _OWNED = (XDMF_NAME, PROBES_NAME, LINES_NAME, HISTORY_NAME, CHECKPOINT_NAME, SUMMARY_NAME,
           RUN_NAME, COMPLETE_NAME)
-DERIVED = ("comparison.csv", "hand.json", "model.toml", "plots", "pictures", "report.html",
-           "validation.json")
+DERIVED = ("comparison.csv", "hand.json", "model.toml", "oedometer_moduli.csv", "plots",
+           "pictures", "report.html", "stability.json", "validation.json")
 _STEP_RE = re.compile(r"^step_(\d{6,})\.h5$")
 _NAME_RE = re.compile(r"^[A-Za-z0-9_.\-]+$")
 _FLOAT_FORMAT = ".12g"  # 12 significant digits: exact enough, short enough to read
@@ -232,6 +237,40 @@ def make_folder(path: str | Path) -> Path:
     except OSError as exc:
         raise os_problem(exc, path, "create the folder") from None
     return path
+
+
+def take_lock(folder: Path) -> int | None:
+    """The lock of a run folder (one writer at a time), held until its descriptor is closed.
+
+    The lock file is created exclusively, or, left by an earlier run, opened without
+    following links and used only if it is a plain file of its own. A POSIX record lock: the
+    kernel releases it when the process dies, kill -9 too."""
+    if fcntl is None:  # pragma: no cover
+        return None
+    path = Path(folder) / LOCK_NAME
+    try:
+        fd = os.open(path, os.O_RDWR | os.O_CREAT | os.O_EXCL | _NOFOLLOW, 0o644)
+    except FileExistsError:
+        try:
+            fd = os.open(path, os.O_RDWR | _NOFOLLOW)
+        except OSError as exc:
+            raise os_problem(exc, path, "open the lock file") from None
+    except OSError as exc:
+        raise os_problem(exc, path, "create the lock file") from None
+    st = os.fstat(fd)
+    if not stat.S_ISREG(st.st_mode) or st.st_nlink != 1:
+        os.close(fd)
+        raise ResultsError(f"{path} is not a plain file of its own; the run will not use it "
+                           "as its lock. Fix: remove it.")
+    try:
+        fcntl.lockf(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+    except OSError as exc:
+        os.close(fd)
+        if exc.errno in (errno.EACCES, errno.EAGAIN):
+            raise ResultsError(f"another run is writing results in {folder}; wait for it to "
+                               "finish or choose another output folder") from None
+        raise os_problem(exc, path, "lock") from None
+    return fd
 
 
 def open_append(path: Path) -> int:

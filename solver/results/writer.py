@@ -12,7 +12,6 @@ before the first change. A folder holding a run is left alone unless the run res
 from __future__ import annotations
 
 import datetime as _dt
-import errno
 import hashlib
 import os
 import shutil
@@ -24,21 +23,15 @@ import numpy as np
 from ..mesh import Mesh
 from .checkpoint import _INFO_KEY, read_checkpoint, write_checkpoint
 from .fields import _Step, _storage_array, step_file_bytes, write_mesh_file, xdmf_grid, xdmf_text
-from .files import (_NAME_RE, _NOFOLLOW, _OWNED, _STEP_RE, CHECKPOINT_NAME, COMPLETE_NAME,
+from .files import (_NAME_RE, _OWNED, _STEP_RE, CHECKPOINT_NAME, COMPLETE_NAME,
                     DERIVED, FIELDS_DIR, FORMAT, HISTORY_NAME, LINE_COLUMNS, LINES_NAME,
                     LOCK_NAME, MESH_NAME, PROBE_COLUMNS, PROBES_NAME, REPLACED_DIR, RUN_NAME,
                     SUMMARY_NAME, XDMF_NAME, EarlierFormatError, ResultsError,
                     _atomic_write_bytes, _fsync_path,
                     _to_json, ensure_folder, hash_prefix, mesh_fingerprint, os_problem,
-                    refuse_link, sha256_file)
+                    refuse_link, sha256_file, take_lock)
 from .verify import read_json_file
 from .tables import _Log, _Table, read_log
-
-try:  # POSIX only; without it the writer still works, unguarded against a second writer.
-    import fcntl
-except ImportError:  # pragma: no cover - Windows
-    fcntl = None
-
 
 def _utc_now() -> str:
     return _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds")
@@ -433,7 +426,7 @@ class ResultWriter:
         self._sync()
         files = {n: {"bytes": f.nbytes, "sha256": f.sha256}
                  for n, f in ((PROBES_NAME, self.probes), (LINES_NAME, self.lines),
-                              (HISTORY_NAME, self.history))}
+                              (HISTORY_NAME, self.history)) if f.nbytes}
         files[f"{FIELDS_DIR}/{MESH_NAME}"] = {"sha256": self._mesh_sha}
         for s in self._steps:
             files[s.file] = {"sha256": s.sha256}
@@ -459,37 +452,8 @@ class ResultWriter:
             raise ResultsError(f"the run in {self.dir} is complete; nothing more is written")
 
     def _lock(self) -> None:
-        """One writer per folder: a second run writing here would interleave its files.
-
-        The lock file is created exclusively, or, left by an earlier run, opened without
-        following links and used only if it is a plain file of its own."""
-        if fcntl is None:  # pragma: no cover
-            return
-        path = self.dir / LOCK_NAME
-        try:
-            fd = os.open(path, os.O_RDWR | os.O_CREAT | os.O_EXCL | _NOFOLLOW, 0o644)
-        except FileExistsError:
-            try:
-                fd = os.open(path, os.O_RDWR | _NOFOLLOW)
-            except OSError as exc:
-                raise os_problem(exc, path, "open the lock file") from None
-        except OSError as exc:
-            raise os_problem(exc, path, "create the lock file") from None
-        st = os.fstat(fd)
-        if not stat.S_ISREG(st.st_mode) or st.st_nlink != 1:
-            os.close(fd)
-            raise ResultsError(f"{path} is not a plain file of its own; the run will not "
-                               "use it as its lock. Fix: remove it.")
-        try:
-            # A POSIX record lock: released by the kernel when the process dies, kill -9 too.
-            fcntl.lockf(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
-        except OSError as exc:
-            os.close(fd)
-            if exc.errno in (errno.EACCES, errno.EAGAIN):
-                raise ResultsError(f"another run is writing results in {self.dir}; wait for "
-                                   "it to finish or choose another output folder") from None
-            raise os_problem(exc, path, "lock") from None
-        self._lock_fd = fd
+        """One writer per folder: a second run writing here would interleave its files."""
+        self._lock_fd = take_lock(self.dir)
 
     def _write_run_json(self) -> None:
         self._write_owned(RUN_NAME, (_to_json(self._run) + "\n").encode())

@@ -22,7 +22,7 @@ import numpy as np
 from solver import CAUTION
 from solver.errors import InputError, PoroplaneError
 from solver.model import Model, Stability, model_from_toml
-from solver.results import SUMMARY_NAME, read_fields
+from solver.results import COMPLETE_NAME, SUMMARY_NAME, amend_run, read_fields
 from solver.results.files import _atomic_write_bytes, _to_json
 
 from .from_run import RunGround, slope_soil
@@ -171,11 +171,16 @@ def stability_command(run_dir: str | Path, times: list[float] | None = None
     doc = {"checks": checks, "required_factor_of_safety": req, "required_note": REQUIRED_NOTE,
            "minimum_per_stage": minimum_per_stage(checks), "warnings": warnings,
            "caution": CAUTION}
+    section = {"minimum_per_stage": doc["minimum_per_stage"],
+               "required_factor_of_safety": req, "note": REQUIRED_NOTE}
+    if (run_dir / COMPLETE_NAME).exists():    # a finished run: added under its lock, checked
+        amend_run(run_dir, {STABILITY_NAME: _to_json(doc, indent=1)},
+                  {"stability": section} if (run_dir / SUMMARY_NAME).exists() else None)
+        return checks, warnings
     _atomic_write_bytes(run_dir / STABILITY_NAME, _to_json(doc, indent=1).encode("utf-8"))
     summary_path = run_dir / SUMMARY_NAME
     if summary_path.exists():
         summary = json.loads(summary_path.read_text(encoding="utf-8"))
-        summary["stability"] = {"minimum_per_stage": doc["minimum_per_stage"],
-                                "required_factor_of_safety": req, "note": REQUIRED_NOTE}
+        summary["stability"] = section
         _atomic_write_bytes(summary_path, _to_json(summary).encode("utf-8"))
     return checks, warnings
